@@ -1,0 +1,2 @@
+//! twistmode-analysis (under construction).
+#![deny(missing_docs)]

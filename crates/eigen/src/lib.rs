@@ -1,0 +1,2 @@
+//! twistmode-eigen (under construction).
+#![deny(missing_docs)]

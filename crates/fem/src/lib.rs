@@ -1,0 +1,2 @@
+//! twistmode-fem (under construction).
+#![deny(missing_docs)]

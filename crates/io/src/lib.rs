@@ -1,0 +1,2 @@
+//! twistmode-io (under construction).
+#![deny(missing_docs)]

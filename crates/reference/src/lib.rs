@@ -1,0 +1,2 @@
+//! twistmode-reference (under construction).
+#![deny(missing_docs)]
