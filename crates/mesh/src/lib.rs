@@ -25,9 +25,11 @@
 #![deny(missing_docs)]
 
 mod error;
+pub mod generate;
 mod topology;
 
 pub use error::MeshError;
+pub use generate::{BodySpec, GeneratorSpec, SectionShape, Surroundings};
 
 use std::fmt;
 
