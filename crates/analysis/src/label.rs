@@ -42,7 +42,7 @@ pub fn classify_polarisation(
     dominance: f64,
 ) -> Polarisation {
     let total = energy_wide + energy_narrow;
-    if !(total > 0.0) || (aspect - 1.0).abs() < 0.01 {
+    if total.is_nan() || total <= 0.0 || (aspect - 1.0).abs() < 0.01 {
         return Polarisation::Mixed;
     }
     if energy_wide >= dominance * total {
@@ -59,7 +59,7 @@ pub fn classify_polarisation(
 /// plateau counts once; the ends count when they exceed their one neighbour.
 pub fn count_maxima(samples: &[f64], rel_threshold: f64) -> usize {
     let peak = samples.iter().cloned().fold(0.0, f64::max);
-    if !(peak > 0.0) {
+    if peak.is_nan() || peak <= 0.0 {
         return 0;
     }
     let floor = rel_threshold * peak;

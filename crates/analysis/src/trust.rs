@@ -82,7 +82,7 @@ pub struct TrustInputs {
 /// starts at `r < r_c` damps an evanescent tail, not a radiating wave.
 pub fn check(inputs: &TrustInputs) -> Vec<Flag> {
     let mut flags = Vec::new();
-    if !(inputs.residual <= inputs.tolerance) {
+    if inputs.residual.is_nan() || inputs.residual > inputs.tolerance {
         flags.push(Flag::Unconverged {
             residual: inputs.residual,
         });
