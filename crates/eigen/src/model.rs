@@ -1,0 +1,146 @@
+//! Model pencils on structured grids, for tests, examples and benchmarks.
+//!
+//! They stand in for the pencils of the finite-element crates: same sparsity character
+//! (2D nearest-neighbour graphs), known answers where one exists.
+
+use faer::c64;
+use faer::sparse::{SparseColMat, Triplet};
+
+use crate::{EigenError, Pencil};
+
+/// Builds a sparse matrix from `(row, col, value)` triplets; duplicates are summed
+/// (faer's `try_new_from_triplets` does the summing).
+pub fn sparse_from_triplets(
+    nrows: usize,
+    ncols: usize,
+    triplets: &[(usize, usize, c64)],
+) -> Result<SparseColMat<usize, c64>, EigenError> {
+    let t: Vec<Triplet<usize, usize, c64>> = triplets
+        .iter()
+        .map(|&(r, c, v)| Triplet::new(r, c, v))
+        .collect();
+    SparseColMat::try_new_from_triplets(nrows, ncols, &t)
+        .map_err(|e| EigenError::Backend(format!("{e:?}")))
+}
+
+/// 5-point Laplacian `-Δ` on the unit square with Dirichlet walls, `m x m` interior
+/// nodes, spacing `h = 1/(m+1)`, and `M = I`.
+pub fn laplacian_2d_dirichlet(m: usize) -> Pencil {
+    let h = 1.0 / (m as f64 + 1.0);
+    let s = 1.0 / (h * h);
+    let n = m * m;
+    let id = |i: usize, j: usize| i + m * j;
+    let mut k = Vec::with_capacity(5 * n);
+    for j in 0..m {
+        for i in 0..m {
+            let p = id(i, j);
+            k.push((p, p, c64::new(4.0 * s, 0.0)));
+            if i > 0 {
+                k.push((p, id(i - 1, j), c64::new(-s, 0.0)));
+            }
+            if i + 1 < m {
+                k.push((p, id(i + 1, j), c64::new(-s, 0.0)));
+            }
+            if j > 0 {
+                k.push((p, id(i, j - 1), c64::new(-s, 0.0)));
+            }
+            if j + 1 < m {
+                k.push((p, id(i, j + 1), c64::new(-s, 0.0)));
+            }
+        }
+    }
+    let mm: Vec<_> = (0..n).map(|p| (p, p, c64::new(1.0, 0.0))).collect();
+    Pencil {
+        k: sparse_from_triplets(n, n, &k).expect("valid triplets"),
+        m: sparse_from_triplets(n, n, &mm).expect("valid triplets"),
+    }
+}
+
+/// Eigenvalues of [`laplacian_2d_dirichlet`]:
+/// `lambda_ij = 4/h^2 (sin^2(i pi h/2) + sin^2(j pi h/2))`, `i, j = 1..m`, ascending.
+/// Source: standard finite-difference analysis (separation of variables of the
+/// 5-point stencil; e.g. LeVeque, Finite Difference Methods for ODEs and PDEs, §3.4).
+pub fn laplacian_2d_dirichlet_eigenvalues(m: usize) -> Vec<f64> {
+    let h = 1.0 / (m as f64 + 1.0);
+    let one = |i: usize| 4.0 / (h * h) * (i as f64 * std::f64::consts::PI * h / 2.0).sin().powi(2);
+    let mut v: Vec<f64> = (1..=m)
+        .flat_map(|i| (1..=m).map(move |j| one(i) + one(j)))
+        .collect();
+    v.sort_by(f64::total_cmp);
+    v
+}
+
+/// A complex, non-Hermitian, non-symmetric 2D Helmholtz-like pencil from linear (P1)
+/// triangles on a structured triangulation of the unit square, Dirichlet walls,
+/// `(cells - 1)^2` unknowns:
+///
+/// `K = ∫ (1/s) ∇u·∇v + i beta ∫ (∂u/∂x) v`, `M = ∫ eps s u v`,
+///
+/// with a central square (side 0.4) of relative permittivity `eps = 4 - 0.01 i`
+/// (lossy), `eps = 1` elsewhere, and an absorbing layer of width 0.1 along the walls
+/// where `s = 1 - 2 i (d/0.1)^2` (d = depth into the layer). `beta = 3` adds a drift
+/// term that makes `K` non-symmetric.
+pub fn helmholtz_p1_absorbing(cells: usize) -> Pencil {
+    let m = cells - 1;
+    let n = m * m;
+    let h = 1.0 / cells as f64;
+    let unknown = |i: usize, j: usize| -> Option<usize> {
+        (i > 0 && j > 0 && i < cells && j < cells).then(|| (i - 1) + m * (j - 1))
+    };
+    let layer = 0.1;
+    let depth = |x: f64| (layer - x).max(0.0).max(x - (1.0 - layer)).max(0.0);
+    let beta = 3.0;
+    let mut kt = Vec::with_capacity(14 * n);
+    let mut mt = Vec::with_capacity(14 * n);
+    for cj in 0..cells {
+        for ci in 0..cells {
+            // two triangles per square cell, split along the (0,0)-(1,1) diagonal
+            let corners = [(ci, cj), (ci + 1, cj), (ci + 1, cj + 1), (ci, cj + 1)];
+            for tri in [[0usize, 1, 2], [0, 2, 3]] {
+                let v: Vec<(usize, usize)> = tri.iter().map(|&t| corners[t]).collect();
+                let xy: Vec<(f64, f64)> = v
+                    .iter()
+                    .map(|&(i, j)| (i as f64 * h, j as f64 * h))
+                    .collect();
+                let cx = (xy[0].0 + xy[1].0 + xy[2].0) / 3.0;
+                let cy = (xy[0].1 + xy[1].1 + xy[2].1) / 3.0;
+                let d = depth(cx).max(depth(cy)) / layer;
+                let s = c64::new(1.0, -2.0 * d * d);
+                let eps = if (cx - 0.5).abs() < 0.2 && (cy - 0.5).abs() < 0.2 {
+                    c64::new(4.0, -0.01)
+                } else {
+                    c64::new(1.0, 0.0)
+                };
+                let area2 = (xy[1].0 - xy[0].0) * (xy[2].1 - xy[0].1)
+                    - (xy[2].0 - xy[0].0) * (xy[1].1 - xy[0].1);
+                let area = area2.abs() / 2.0;
+                // gradients of the barycentric functions
+                let grad: Vec<(f64, f64)> = (0..3)
+                    .map(|a| {
+                        let (b, c) = ((a + 1) % 3, (a + 2) % 3);
+                        ((xy[b].1 - xy[c].1) / area2, (xy[c].0 - xy[b].0) / area2)
+                    })
+                    .collect();
+                for a in 0..3 {
+                    let Some(ra) = unknown(v[a].0, v[a].1) else {
+                        continue;
+                    };
+                    for b in 0..3 {
+                        let Some(cb) = unknown(v[b].0, v[b].1) else {
+                            continue;
+                        };
+                        let stiff = (grad[a].0 * grad[b].0 + grad[a].1 * grad[b].1) * area;
+                        let drift = c64::new(0.0, beta * grad[b].0 * area / 3.0);
+                        kt.push((ra, cb, s.inv() * stiff + drift));
+                        let mass = area / 12.0 * if a == b { 2.0 } else { 1.0 };
+                        mt.push((ra, cb, eps * s * mass));
+                    }
+                }
+            }
+        }
+    }
+    Pencil {
+        k: sparse_from_triplets(n, n, &kt).expect("valid triplets"),
+        m: sparse_from_triplets(n, n, &mt).expect("valid triplets"),
+    }
+}

@@ -1,0 +1,422 @@
+//! Eigenpairs nearest a shift: Krylov-Schur on the shift-invert operator, true residuals,
+//! polishing, static-mode filtering.
+
+use std::sync::atomic::Ordering as AtomicOrdering;
+use std::time::Instant;
+
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::matrix_free::eigen::{partial_eigen, partial_eigen_scratch, PartialEigenParams};
+use faer::sparse::linalg::matmul::sparse_dense_matmul;
+use faer::{c64, Accum, Col, Mat, Par};
+
+use crate::shift_invert::next_uniform;
+use crate::{EigenError, FactorReport, Pencil, ShiftInvert};
+
+/// Options of one shift-invert solve.
+#[derive(Debug, Clone)]
+pub struct SolveOptions {
+    /// number of eigenpairs wanted nearest the shift (static modes excluded)
+    pub count: usize,
+    /// bound on the relative residual `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)`
+    pub tol: f64,
+    /// maximum number of Krylov-Schur restarts
+    pub max_restarts: usize,
+    /// Krylov subspace dimension; `None` picks `max(2 count + 16, 64)` (faer's floor is 64)
+    pub krylov_dim: Option<usize>,
+    /// starting vector; `None` uses a fixed pseudo-random vector (reproducible runs)
+    pub start: Option<Vec<c64>>,
+    /// pairs with `|lambda|` below this are static (gradient) modes: counted, set aside
+    pub static_below: f64,
+}
+
+impl Default for SolveOptions {
+    fn default() -> Self {
+        Self {
+            count: 6,
+            tol: 1e-10,
+            max_restarts: 300,
+            krylov_dim: None,
+            start: None,
+            static_below: 0.0,
+        }
+    }
+}
+
+/// One eigenpair of the pencil.
+#[derive(Debug, Clone)]
+pub struct EigenPair {
+    /// eigenvalue `lambda`
+    pub lambda: c64,
+    /// right eigenvector, unit 2-norm
+    pub vector: Vec<c64>,
+    /// true relative residual `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)`
+    pub residual: f64,
+    /// `residual <= tol`
+    pub converged: bool,
+}
+
+/// How a solve ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Status {
+    /// all requested pairs found, all within tolerance
+    Converged,
+    /// Krylov-Schur stopped at `max_restarts` with fewer pairs than requested
+    MaxRestarts {
+        /// pairs returned (static ones excluded)
+        converged: usize,
+        /// pairs requested
+        requested: usize,
+    },
+    /// the requested number was found but some pairs fail the true-residual test
+    /// (they are returned with `converged == false`)
+    ResidualAboveTolerance {
+        /// pairs above tolerance
+        failing: usize,
+    },
+}
+
+/// Counters and wall times of a solve.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Stats {
+    /// number of unknowns
+    pub n: usize,
+    /// stored entries of the union pattern of K and M
+    pub pattern_nnz: usize,
+    /// nnz(L + U) of the factor structure
+    pub fill_nnz: usize,
+    /// symbolic analysis, seconds
+    pub analysis_seconds: f64,
+    /// numeric factorisation(s), seconds
+    pub factor_seconds: f64,
+    /// Krylov-Schur iterations, residuals and polishing, seconds
+    pub iteration_seconds: f64,
+    /// applications of the shift-invert operator (one sparse solve each)
+    pub operator_applications: usize,
+    /// condition estimate of `K - sigma M` at the shift used
+    pub condition: f64,
+}
+
+/// Result of a solve near one shift.
+#[derive(Debug, Clone)]
+pub struct Spectrum {
+    /// pairs sorted by distance to the requested shift
+    pub pairs: Vec<EigenPair>,
+    /// how the solve ended
+    pub status: Status,
+    /// shift actually factorised
+    pub shift: c64,
+    /// requested shift, when it had to be nudged off a (near) eigenvalue
+    pub nudged_from: Option<c64>,
+    /// number of static pairs (`|lambda| < static_below`) set aside
+    pub static_dropped: usize,
+    /// counters and timings
+    pub stats: Stats,
+}
+
+/// Eigenpairs of `pencil` nearest `sigma`: analysis, factorisation and Krylov-Schur in one call.
+pub fn solve_near(
+    pencil: &Pencil,
+    sigma: c64,
+    opts: &SolveOptions,
+) -> Result<Spectrum, EigenError> {
+    let mut op = ShiftInvert::try_new(pencil)?;
+    op.solve_near(sigma, opts)
+}
+
+impl ShiftInvert<'_> {
+    /// Factorises at `sigma` (reusing the symbolic analysis) and finds the nearest pairs.
+    pub fn solve_near(&mut self, sigma: c64, opts: &SolveOptions) -> Result<Spectrum, EigenError> {
+        check_options(self.dim(), opts)?;
+        let report = self.factor(sigma)?;
+        self.solve_factored(sigma, &report, opts)
+    }
+
+    /// Krylov-Schur on the current factorisation (see [`ShiftInvert::factor`]).
+    pub fn solve_factored(
+        &self,
+        requested_sigma: c64,
+        report: &FactorReport,
+        opts: &SolveOptions,
+    ) -> Result<Spectrum, EigenError> {
+        check_options(self.dim(), opts)?;
+        let start = Instant::now();
+        let applications_before = self.applications.load(AtomicOrdering::Relaxed);
+        let n = self.dim();
+        let mut want = opts.count.min(n);
+        let mut result;
+        loop {
+            result = self.krylov_schur(report.sigma, want, opts)?;
+            let static_dropped = result
+                .0
+                .iter()
+                .filter(|p| p.lambda.norm() < opts.static_below)
+                .count();
+            let physical = result.0.len() - static_dropped;
+            // static modes took slots: ask once more for enough to cover them
+            if physical < opts.count.min(n) && static_dropped > 0 && want < n && result.1 {
+                let more = (want + static_dropped).min(n);
+                if more > want && want <= opts.count + static_dropped {
+                    want = more;
+                    continue;
+                }
+            }
+            break;
+        }
+        let (found, all_locked) = result;
+        let mut static_dropped = 0;
+        let mut pairs: Vec<EigenPair> = Vec::with_capacity(found.len());
+        for p in found {
+            if p.lambda.norm() < opts.static_below {
+                static_dropped += 1;
+            } else {
+                pairs.push(p);
+            }
+        }
+        pairs.sort_by(|a, b| {
+            (a.lambda - requested_sigma)
+                .norm()
+                .total_cmp(&(b.lambda - requested_sigma).norm())
+        });
+        pairs.truncate(opts.count);
+        let failing = pairs.iter().filter(|p| !p.converged).count();
+        let requested = opts.count.min(n);
+        let status = if pairs.len() < requested && !all_locked {
+            Status::MaxRestarts {
+                converged: pairs.len(),
+                requested,
+            }
+        } else if failing > 0 {
+            Status::ResidualAboveTolerance { failing }
+        } else {
+            Status::Converged
+        };
+        Ok(Spectrum {
+            pairs,
+            status,
+            shift: report.sigma,
+            nudged_from: report.nudged_from,
+            static_dropped,
+            stats: Stats {
+                n,
+                pattern_nnz: self.pattern_nnz(),
+                fill_nnz: self.fill_nnz(),
+                analysis_seconds: self.analysis_seconds(),
+                factor_seconds: report.seconds,
+                iteration_seconds: start.elapsed().as_secs_f64(),
+                operator_applications: self.applications.load(AtomicOrdering::Relaxed)
+                    - applications_before,
+                condition: report.condition,
+            },
+        })
+    }
+
+    /// Runs faer's Krylov-Schur for `want` pairs; returns the pairs (residual-checked and
+    /// polished) and whether all `want` locked before the restart limit.
+    fn krylov_schur(
+        &self,
+        sigma: c64,
+        want: usize,
+        opts: &SolveOptions,
+    ) -> Result<(Vec<EigenPair>, bool), EigenError> {
+        let n = self.dim();
+        let mut v0 = Col::<c64>::zeros(n);
+        match &opts.start {
+            Some(s) => {
+                for i in 0..n {
+                    v0[i] = s[i];
+                }
+            }
+            None => {
+                let mut state = 0x2545_F491_4F6C_DD1Du64;
+                for i in 0..n {
+                    v0[i] = c64::new(next_uniform(&mut state), next_uniform(&mut state));
+                }
+            }
+        }
+        // Scale of the operator's dominant eigenvalues: a few power steps. faer's locking
+        // test is absolute, so the Krylov tolerance is taken relative to this scale.
+        let mut x = Mat::<c64>::zeros(n, 1);
+        let mut y = Mat::<c64>::zeros(n, 1);
+        x.col_mut(0).copy_from(&v0);
+        let mut theta_scale = 0.0;
+        for _ in 0..3 {
+            let nx = x.norm_l2();
+            x /= faer::Scale(c64::from(nx));
+            self.apply_to(y.as_mut(), x.as_ref());
+            theta_scale = y.norm_l2();
+            std::mem::swap(&mut x, &mut y);
+        }
+        if !(theta_scale.is_finite() && theta_scale > 0.0) {
+            return Err(EigenError::Backend(
+                "shift-invert operator gave a non-finite vector".into(),
+            ));
+        }
+        let max_dim = opts.krylov_dim.unwrap_or((2 * want + 16).max(64)).min(n);
+        let params = PartialEigenParams {
+            min_dim: (max_dim / 2).max(want).min(n),
+            max_dim,
+            max_restarts: opts.max_restarts,
+            ..Default::default()
+        };
+        let krylov_tol = theta_scale * KRYLOV_RELATIVE_TOL;
+        let par = Par::Seq;
+        let mut mem = MemBuffer::try_new(partial_eigen_scratch::<c64>(self, want, par, params))
+            .map_err(|_| EigenError::Backend("out of memory for the Krylov basis".into()))?;
+        let mut vecs = Mat::<c64>::zeros(n, want);
+        let mut vals = vec![c64::ZERO; want];
+        let info = partial_eigen(
+            vecs.as_mut(),
+            &mut vals,
+            self,
+            v0.as_ref(),
+            krylov_tol,
+            par,
+            MemStack::new(&mut mem),
+            params,
+        );
+        let got = info.n_converged_eigen.min(want);
+        let pencil = self.pencil();
+        let mut pairs = Vec::with_capacity(got);
+        for j in 0..got {
+            let theta = vals[j];
+            if theta.norm() == 0.0 || !theta.norm().is_finite() {
+                continue;
+            }
+            let mut v: Vec<c64> = vecs.col(j).iter().copied().collect();
+            normalise(&mut v);
+            let lambda = sigma + theta.inv();
+            let mut pair = EigenPair {
+                lambda,
+                residual: relative_residual(pencil, lambda, &v),
+                vector: v,
+                converged: false,
+            };
+            self.polish(&mut pair, opts.tol);
+            pair.converged = pair.residual <= opts.tol;
+            pairs.push(pair);
+        }
+        Ok((pairs, got >= want))
+    }
+
+    /// Up to three inverse-iteration steps at the factorised shift, each followed by a
+    /// Rayleigh quotient; kept only while the true residual decreases.
+    fn polish(&self, pair: &mut EigenPair, tol: f64) {
+        let n = self.dim();
+        let pencil = self.pencil();
+        for _ in 0..3 {
+            if pair.residual <= tol * 1e-2 {
+                return;
+            }
+            let mut x = Mat::<c64>::zeros(n, 1);
+            for i in 0..n {
+                x[(i, 0)] = pair.vector[i];
+            }
+            let mut y = Mat::<c64>::zeros(n, 1);
+            self.apply_to(y.as_mut(), x.as_ref());
+            let mut v: Vec<c64> = (0..n).map(|i| y[(i, 0)]).collect();
+            normalise(&mut v);
+            let kx = mul(&pencil.k, &v);
+            let mx = mul(&pencil.m, &v);
+            let denom = dot(&v, &mx);
+            if denom.norm() == 0.0 {
+                return;
+            }
+            let lambda = dot(&v, &kx) / denom;
+            let res = residual_from(&kx, &mx, lambda);
+            if res < pair.residual {
+                *pair = EigenPair {
+                    lambda,
+                    vector: v,
+                    residual: res,
+                    converged: false,
+                };
+            } else {
+                return;
+            }
+        }
+    }
+}
+
+/// Krylov-Schur locking tolerance relative to the operator's dominant eigenvalue.
+const KRYLOV_RELATIVE_TOL: f64 = 1e-14;
+
+fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenError> {
+    if opts.count == 0 {
+        return Err(EigenError::InvalidOption("count must be at least 1".into()));
+    }
+    if !(opts.tol > 0.0) {
+        return Err(EigenError::InvalidOption(format!(
+            "tol must be positive, got {}",
+            opts.tol
+        )));
+    }
+    if let Some(s) = &opts.start {
+        if s.len() != n {
+            return Err(EigenError::VectorLength {
+                got: s.len(),
+                expected: n,
+            });
+        }
+    }
+    if let Some(d) = opts.krylov_dim {
+        if d < 2 {
+            return Err(EigenError::InvalidOption(format!(
+                "krylov_dim must be at least 2, got {d}"
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)`.
+pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> f64 {
+    let kx = mul(&pencil.k, x);
+    let mx = mul(&pencil.m, x);
+    residual_from(&kx, &mx, lambda)
+}
+
+fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
+    let r: f64 = kx
+        .iter()
+        .zip(mx)
+        .map(|(a, b)| (*a - lambda * *b).norm_sqr())
+        .sum::<f64>()
+        .sqrt();
+    let nk: f64 = kx.iter().map(|a| a.norm_sqr()).sum::<f64>().sqrt();
+    let nm: f64 = mx.iter().map(|a| a.norm_sqr()).sum::<f64>().sqrt();
+    let d = nk + lambda.norm() * nm;
+    if d > 0.0 {
+        r / d
+    } else {
+        r
+    }
+}
+
+pub(crate) fn mul(a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]) -> Vec<c64> {
+    let n = x.len();
+    let xm = faer::MatRef::from_column_major_slice(x, n, 1);
+    let mut y = Mat::<c64>::zeros(a.nrows(), 1);
+    sparse_dense_matmul(
+        y.as_mut(),
+        Accum::Replace,
+        a.as_ref(),
+        xm,
+        c64::ONE,
+        Par::Seq,
+    );
+    (0..a.nrows()).map(|i| y[(i, 0)]).collect()
+}
+
+/// `x^H y`.
+pub(crate) fn dot(x: &[c64], y: &[c64]) -> c64 {
+    x.iter().zip(y).map(|(a, b)| a.conj() * *b).sum()
+}
+
+pub(crate) fn normalise(v: &mut [c64]) {
+    let s: f64 = v.iter().map(|a| a.norm_sqr()).sum::<f64>().sqrt();
+    if s > 0.0 {
+        for a in v.iter_mut() {
+            *a /= s;
+        }
+    }
+}
