@@ -84,6 +84,14 @@ pub enum MeshError {
     /// A Gmsh file could not be read.
     #[error("Gmsh file: {0}")]
     Gmsh(String),
+    /// A pi-rotation partner map does not describe a symmetry of the mesh.
+    #[error("pi-rotation partner map rejected at node {node}: {reason}")]
+    PiPartners {
+        /// The first offending node.
+        node: u32,
+        /// What is wrong.
+        reason: String,
+    },
     /// File system error.
     #[error("I/O error on {path}: {message}")]
     Io {

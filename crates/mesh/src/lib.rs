@@ -26,7 +26,11 @@
 
 mod error;
 pub mod generate;
+mod gmsh;
 mod topology;
+
+pub use generate::generate;
+pub use gmsh::{parse_gmsh, read_gmsh, write_gmsh, write_gmsh_string};
 
 pub use error::MeshError;
 pub use generate::{BodySpec, GeneratorSpec, SectionShape, Surroundings};
@@ -210,6 +214,7 @@ pub struct Mesh {
     edges: Vec<[NodeId; 2]>,
     triangle_edges: Vec<[(EdgeId, i8); 3]>,
     boundary: Vec<BoundaryEdge>,
+    pi_partners: Option<Vec<NodeId>>,
 }
 
 /// Inputs of [`Mesh::new`]: raw geometry before topology is derived.
@@ -305,7 +310,9 @@ impl Mesh {
     /// Total area (exact for straight triangles; for quadratic ones, the exact
     /// area of the quadratic map, by 3-point-rule-exact integration of its Jacobian).
     pub fn area(&self) -> f64 {
-        (0..self.triangles.len()).map(|t| self.triangle_area(t)).sum()
+        (0..self.triangles.len())
+            .map(|t| self.triangle_area(t))
+            .sum()
     }
     /// Area of triangle `t` (see [`Mesh::area`]).
     pub fn triangle_area(&self, t: usize) -> f64 {
@@ -314,6 +321,91 @@ impl Mesh {
     /// Mesh quality figures.
     pub fn quality(&self) -> Quality {
         topology::quality(self)
+    }
+
+    /// For a mesh invariant under rotation by pi about a centre (generated
+    /// with `pi_symmetric`), `partners[i]` is the node at the rotated
+    /// position of node `i`. The map is an involution; nodes on the cut line
+    /// through the centre partner other cut nodes (a node at the centre
+    /// itself is its own partner). Generated meshes number the meshed half
+    /// first: nodes `0..n` and triangles `0..t` (with `t` half the triangle
+    /// count) are the half, triangle `t + j` is the image of triangle `j`,
+    /// and every node of the half that is not on the cut has its partner at
+    /// `n` or above. `None` for meshes without this symmetry.
+    pub fn pi_partner_nodes(&self) -> Option<&[NodeId]> {
+        self.pi_partners.as_deref()
+    }
+
+    /// The centre of the pi-rotation symmetry (mean of a node and its
+    /// partner), when the mesh has one.
+    pub fn pi_centre(&self) -> Option<[f64; 2]> {
+        let p = self.pi_partners.as_ref()?;
+        let a = self.points[0];
+        let b = self.points[p[0].idx()];
+        Some([0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1])])
+    }
+
+    /// Attaches a pi-rotation partner map (see [`Mesh::pi_partner_nodes`])
+    /// after checking it: one entry per node, an involution, partners at the
+    /// rotated positions (relative tolerance 1e-9 of the mesh size), and the
+    /// image of every triangle a triangle of the same region.
+    pub fn try_with_pi_partners(mut self, partners: Vec<NodeId>) -> Result<Mesh, MeshError> {
+        let bad = |node: usize, reason: String| MeshError::PiPartners {
+            node: node as u32,
+            reason,
+        };
+        if partners.len() != self.points.len() {
+            return Err(bad(
+                0,
+                format!(
+                    "{} partners for {} nodes",
+                    partners.len(),
+                    self.points.len()
+                ),
+            ));
+        }
+        for (i, p) in partners.iter().enumerate() {
+            if p.idx() >= partners.len() || partners[p.idx()].idx() != i {
+                return Err(bad(i, "the partner map is not an involution".into()));
+            }
+        }
+        let scale = self
+            .points
+            .iter()
+            .map(|p| p[0].abs().max(p[1].abs()))
+            .fold(0.0, f64::max);
+        let a = self.points[0];
+        let b = self.points[partners[0].idx()];
+        let centre = [0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1])];
+        for (i, p) in partners.iter().enumerate() {
+            let x = self.points[i];
+            let y = self.points[p.idx()];
+            let err = (x[0] + y[0] - 2.0 * centre[0]).hypot(x[1] + y[1] - 2.0 * centre[1]);
+            if err > 1e-9 * scale {
+                return Err(bad(
+                    i,
+                    format!("the partner is {err:.3e} m away from the rotated position"),
+                ));
+            }
+        }
+        let mut tris = std::collections::HashMap::new();
+        for t in &self.triangles {
+            let mut v = t.vertices();
+            v.sort_unstable();
+            tris.insert(v, t.region);
+        }
+        for t in &self.triangles {
+            let mut v = t.vertices().map(|n| partners[n.idx()]);
+            v.sort_unstable();
+            if tris.get(&v) != Some(&t.region) {
+                return Err(bad(
+                    t.nodes[0].idx(),
+                    "the rotated image of a triangle is not a triangle of the same region".into(),
+                ));
+            }
+        }
+        self.pi_partners = Some(partners);
+        Ok(self)
     }
 }
 

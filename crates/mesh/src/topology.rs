@@ -64,9 +64,7 @@ pub(crate) fn triangle_area(p: &[[f64; 2]]) -> f64 {
         return signed_area([p[0], p[1], p[2]]);
     }
     let pts = [(0.5, 0.0), (0.5, 0.5), (0.0, 0.5)];
-    pts.iter()
-        .map(|&(x, y)| jacobian_det(p, x, y) / 6.0)
-        .sum()
+    pts.iter().map(|&(x, y)| jacobian_det(p, x, y) / 6.0).sum()
 }
 
 pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
@@ -112,7 +110,8 @@ pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
                 (p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2)
             })
             .fold(0.0, f64::max);
-        if !(a.abs() > DEGENERATE_TOL * longest) {
+        // NaN areas count as degenerate.
+        if a.is_nan() || a.abs() <= DEGENERATE_TOL * longest {
             return Err(MeshError::Degenerate {
                 triangle: t,
                 area: a,
@@ -221,6 +220,7 @@ pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
         edges,
         triangle_edges,
         boundary,
+        pi_partners: None,
     })
 }
 

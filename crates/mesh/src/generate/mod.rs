@@ -2,7 +2,76 @@
 //! refinement (spade), regions for body, surroundings and PML, and quadratic
 //! nodes placed on the true curves.
 //!
-//! The contract (types below) is fixed; see `generate` for the algorithm.
+//! The contract (types below) is fixed; see [`generate`] for the algorithm.
+//!
+//! ```text
+//!   outline pieces (lines, elliptic arcs)      per region: its outlines,
+//!   -> curves discretised once (graded size,   clipped to r >= 0 / z >= 0 /
+//!      <= 30 deg turn per segment)             the cut half plane
+//!   -> spade CDT + Ruppert refinement per region (own max area, angle limit,
+//!      constraint edges kept, so regions meet node to node)
+//!   -> merge -> optional pi-rotated copy -> quadratic nodes on the curves
+//! ```
+
+mod clip;
+mod curves;
+mod mesher;
+
+use crate::{Mesh, MeshError};
+
+/// Builds a mesh of the section described by `spec`.
+///
+/// - Every curve (body outline, PML start, outer boundary) is a chain of
+///   constraint edges, so no triangle crosses a material interface or the
+///   PML start. Segment lengths follow the body's `max_edge` on the body
+///   outline and grow by 0.35 m per m of distance up to the surroundings'
+///   `max_edge`; curved segments turn by at most 30 degrees.
+/// - Each region (`body`, `surroundings`, `pml`) is refined on its own by
+///   spade's Delaunay refinement with the spec's angle limit and a largest
+///   area of 0.6 times the equilateral triangle of the region's `max_edge`.
+/// - Quadratic meshes put the mid-side node of every edge on a curve at the
+///   curve's mid-parameter point; all other mid-side nodes at the chord midpoint.
+///   Should a curved triangle come out inverted, the curves are discretised
+///   more finely and the mesh is rebuilt (up to three times).
+/// - With `pi_symmetric`, the half `v >= v_c` (in a frame turned so that the
+///   cut line avoids polygon vertices) is meshed and rotated by pi about the
+///   body centre; see [`Mesh::pi_partner_nodes`].
+///
+/// Errors: [`MeshError::Geometry`] for bad input (naming the field),
+/// [`MeshError::Triangulation`] when the triangulator fails.
+pub fn generate(spec: &GeneratorSpec) -> Result<Mesh, MeshError> {
+    let mut turn = curves::MAX_TURN;
+    let mut attempt = 0;
+    loop {
+        match mesher::build(spec, turn) {
+            Err(MeshError::Inverted { .. }) if attempt < 3 => {
+                attempt += 1;
+                turn *= 0.5;
+            }
+            other => return other,
+        }
+    }
+}
+
+impl GeneratorSpec {
+    /// Default smallest interior angle aimed for, degrees (common practice:
+    /// Delaunay refinement terminates reliably below about 30 degrees).
+    pub const DEFAULT_MIN_ANGLE_DEG: f64 = 28.0;
+
+    /// A spec with the defaults: linear geometry, no symmetry, full domain,
+    /// [`GeneratorSpec::DEFAULT_MIN_ANGLE_DEG`].
+    pub fn new(domain: crate::DomainKind, body: BodySpec, surroundings: Surroundings) -> Self {
+        GeneratorSpec {
+            domain,
+            body,
+            surroundings,
+            order: crate::GeometryOrder::Linear,
+            pi_symmetric: false,
+            upper_half_only: false,
+            min_angle_deg: Self::DEFAULT_MIN_ANGLE_DEG,
+        }
+    }
+}
 
 /// Shape of a body section, in its own frame (centre at the origin).
 #[derive(Clone, Debug, PartialEq)]
