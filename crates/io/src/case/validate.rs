@@ -1,0 +1,962 @@
+//! From the raw case to a validated [`Case`]: unit conversion and every
+//! check that needs more than one key. Each refusal names the key and a fix.
+
+use super::error::{closest, key_help};
+use super::raw::*;
+use super::shape;
+use super::*;
+use crate::units::{parse_quantity, Quantity, UnitError};
+
+type Result<T> = std::result::Result<T, CaseError>;
+
+/// Turns a deserialisation error (unknown key, wrong type) into a [`CaseError`].
+pub(crate) fn deserialise_error(e: serde_path_to_error::Error<toml::de::Error>) -> CaseError {
+    let path = e.path().to_string();
+    let message = e.into_inner().message().trim().to_string();
+    let names = backticked(&message);
+    let join = |parent: &str, child: &str| {
+        if parent == "." || parent.is_empty() {
+            child.to_string()
+        } else {
+            format!("{parent}.{child}")
+        }
+    };
+    if message.starts_with("unknown field") {
+        let unknown = names.first().cloned().unwrap_or_default();
+        let key = if path.ends_with(&unknown) {
+            path.clone()
+        } else {
+            join(&path, &unknown)
+        };
+        let valid: Vec<&str> = names.iter().skip(1).map(String::as_str).collect();
+        let fix = match closest(&unknown, &valid) {
+            Some(best) => format!(
+                "did you mean '{}'? Valid keys here: {}",
+                best,
+                valid.join(", ")
+            ),
+            None => format!("remove it; valid keys here: {}", valid.join(", ")),
+        };
+        return CaseError::new(key, format!("unknown key '{unknown}'"), fix);
+    }
+    if message.starts_with("unknown variant") {
+        let given = names.first().cloned().unwrap_or_default();
+        let valid: Vec<&str> = names.iter().skip(1).map(String::as_str).collect();
+        let fix = match closest(&given, &valid) {
+            Some(best) => format!("did you mean \"{best}\"? Use one of: {}", valid.join(", ")),
+            None => format!("use one of: {}", valid.join(", ")),
+        };
+        return CaseError::new(path, format!("unknown value \"{given}\""), fix);
+    }
+    let expected = key_help(&path).unwrap_or("the type described in docs/case-files.md");
+    let message = if message.contains("did not match any variant") {
+        "this value has the wrong form".to_string()
+    } else {
+        format!("wrong type or value ({message})")
+    };
+    CaseError::new(path, message, format!("give {expected}"))
+}
+
+/// The names between backticks in a serde message, in order.
+fn backticked(message: &str) -> Vec<String> {
+    message
+        .split('`')
+        .skip(1)
+        .step_by(2)
+        .map(str::to_string)
+        .collect()
+}
+
+/// Formats a number with 4 significant digits, trailing zeros removed.
+pub(crate) fn fmt_num(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    if !(1e-3..1e6).contains(&x.abs()) {
+        return format!("{x:.3e}");
+    }
+    let digits = (3 - x.abs().log10().floor() as i32).clamp(0, 15) as usize;
+    let s = format!("{x:.digits$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// Length formatting in the case's unit.
+struct Lengths(LengthUnit);
+
+impl Lengths {
+    fn show(&self, metres: f64) -> String {
+        format!("{} {}", fmt_num(self.0.from_metres(metres)), self.0)
+    }
+    /// A finite, strictly positive length, converted to metres.
+    fn positive(&self, key: &str, value: f64) -> Result<f64> {
+        finite(key, value)?;
+        if value <= 0.0 {
+            return Err(CaseError::new(
+                key,
+                format!("{key} = {} must be positive", fmt_num(value)),
+                format!("give a size > 0 in {}", self.0),
+            ));
+        }
+        Ok(self.0.to_metres(value))
+    }
+    /// A finite length >= 0, converted to metres.
+    fn non_negative(&self, key: &str, value: f64) -> Result<f64> {
+        finite(key, value)?;
+        if value < 0.0 {
+            return Err(CaseError::new(
+                key,
+                format!("{key} = {} is negative", fmt_num(value)),
+                format!("give a size >= 0 in {}", self.0),
+            ));
+        }
+        Ok(self.0.to_metres(value))
+    }
+}
+
+fn finite(key: &str, value: f64) -> Result<f64> {
+    if value.is_finite() {
+        Ok(value)
+    } else {
+        Err(CaseError::new(
+            key,
+            format!("{key} = {value} is not a finite number"),
+            "give an ordinary number (not nan or inf)",
+        ))
+    }
+}
+
+fn missing(key: &str, fix: &str) -> CaseError {
+    CaseError::new(key, "missing (this key is required)", fix)
+}
+
+/// Refuses a key that has no meaning in this context.
+fn refuse<T>(value: &Option<T>, key: &str, why: &str, fix: &str) -> Result<()> {
+    match value {
+        Some(_) => Err(CaseError::new(key, format!("{key} {why}"), fix)),
+        None => Ok(()),
+    }
+}
+
+pub(crate) fn validate(raw: RawCase, base_dir: &Path) -> Result<Case> {
+    let unit = length_unit(&raw.units)?;
+    let len = Lengths(unit);
+    let search_raw = raw.search.as_ref().ok_or_else(|| {
+        missing(
+            "search",
+            "add a table [search] with near_frequency = \"6 GHz\" (or near_wavelength) and m (or beta)",
+        )
+    })?;
+    let near_frequency = target_frequency(search_raw)?;
+    let lambda0 = SPEED_OF_LIGHT / near_frequency;
+
+    let body = body(raw.body.as_ref(), &len)?;
+    let materials = materials(&raw.materials)?;
+    let section = section(raw.section.as_ref(), &len, &materials, base_dir)?;
+    let surroundings = surroundings(&raw.surroundings, &len, lambda0)?;
+    let mesh = mesh_settings(&raw.mesh, &body, &section)?;
+    let midplane = midplane(&raw.boundary, &body, &section)?;
+    let search = search(search_raw, &body, near_frequency, &len)?;
+    check_placement(&body, &section, &surroundings, &raw.surroundings, &len)?;
+    Ok(Case {
+        length_unit: unit,
+        body,
+        section,
+        materials,
+        surroundings,
+        mesh,
+        search,
+        midplane,
+    })
+}
+
+fn length_unit(units: &Option<RawUnits>) -> Result<LengthUnit> {
+    let fix = "add a table [units] with length = \"mm\" (one of nm, um, mm, m); every length in the file is in this unit";
+    let text = units
+        .as_ref()
+        .and_then(|u| u.length.as_deref())
+        .ok_or_else(|| missing("units.length", fix))?;
+    text.parse().map_err(|_| {
+        let names: Vec<&str> = LengthUnit::ALL.iter().map(|u| u.symbol()).collect();
+        let hint = closest(&text.to_lowercase(), &names)
+            .map(|b| format!("did you mean \"{b}\"? "))
+            .unwrap_or_default();
+        CaseError::new(
+            "units.length",
+            format!("unknown length unit \"{text}\""),
+            format!("{hint}use one of nm, um, mm, m"),
+        )
+    })
+}
+
+/// The target frequency from exactly one of `near_frequency` / `near_wavelength`.
+fn target_frequency(s: &RawSearch) -> Result<f64> {
+    let (key, q, want_frequency) = match (&s.near_frequency, &s.near_wavelength) {
+        (Some(q), None) => ("search.near_frequency", q, true),
+        (None, Some(q)) => ("search.near_wavelength", q, false),
+        (Some(_), Some(_)) => {
+            return Err(CaseError::new(
+                "search.near_frequency",
+                "both search.near_frequency and search.near_wavelength are given",
+                "keep exactly one of the two",
+            ))
+        }
+        (None, None) => {
+            return Err(missing(
+                "search.near_frequency",
+                "add near_frequency = \"6 GHz\" or near_wavelength = \"1.55 um\" to [search] (exactly one)",
+            ))
+        }
+    };
+    let example = if want_frequency {
+        "\"6.2 GHz\""
+    } else {
+        "\"1.55 um\""
+    };
+    let text = match q {
+        RawQuantity::Text(t) => t,
+        RawQuantity::Number(x) => {
+            return Err(CaseError::new(
+                key,
+                format!("{key} = {} has no unit", fmt_num(*x)),
+                format!("write it as a string with its unit, e.g. {example}"),
+            ))
+        }
+    };
+    let value = parse_quantity(text).map_err(|e| {
+        let fix = match &e {
+            UnitError::UnknownUnit { .. } | UnitError::MissingUnit { .. } => {
+                format!("write a number and a unit, e.g. {example}; frequency units Hz, kHz, MHz, GHz, THz; length units nm, um, mm, m")
+            }
+            UnitError::BadNumber { .. } => format!("start with a finite number, e.g. {example}"),
+        };
+        CaseError::new(key, e.to_string(), fix)
+    })?;
+    let hz = match (value, want_frequency) {
+        (Quantity::Frequency(f), true) => f,
+        (Quantity::Length(l), false) => SPEED_OF_LIGHT / l,
+        (Quantity::Length(_), true) => {
+            return Err(CaseError::new(
+                key,
+                format!("\"{text}\" is a length, not a frequency"),
+                format!(
+                    "use near_wavelength = \"{text}\" instead, or a frequency unit (Hz .. THz)"
+                ),
+            ))
+        }
+        (Quantity::Frequency(_), false) => {
+            return Err(CaseError::new(
+                key,
+                format!("\"{text}\" is a frequency, not a wavelength"),
+                format!(
+                    "use near_frequency = \"{text}\" instead, or a length unit (nm, um, mm, m)"
+                ),
+            ))
+        }
+    };
+    if !(hz.is_finite() && hz > 0.0) {
+        return Err(CaseError::new(
+            key,
+            format!("{key} = \"{text}\" is not positive"),
+            format!("give a positive value, e.g. {example}"),
+        ));
+    }
+    Ok(hz)
+}
+
+fn body(raw: Option<&RawBody>, len: &Lengths) -> Result<Body> {
+    let kinds = "one of \"revolution\", \"ring\", \"straight\"";
+    let b = raw.ok_or_else(|| {
+        missing(
+            "body",
+            &format!("add a table [body] with kind = \"ring\" ({kinds})"),
+        )
+    })?;
+    let kind = b.kind.ok_or_else(|| {
+        missing(
+            "body.kind",
+            &format!("add kind = \"ring\" ({kinds}) under [body]"),
+        )
+    })?;
+    match kind {
+        BodyKindName::Revolution => {
+            refuse(
+                &b.radius,
+                "body.radius",
+                "has no meaning for a body of revolution",
+                "remove it and place the section with section.centre = [r, z]",
+            )?;
+            refuse(
+                &b.half_turns,
+                "body.half_turns",
+                "applies to rings only",
+                "remove it, or use kind = \"ring\" for a twisted ring",
+            )?;
+            refuse(
+                &b.twist_rate,
+                "body.twist_rate",
+                "applies to straight guides only",
+                "remove it",
+            )?;
+            Ok(Body::Revolution)
+        }
+        BodyKindName::Ring => {
+            refuse(
+                &b.twist_rate,
+                "body.twist_rate",
+                "applies to straight guides; a ring twists by body.half_turns per round trip",
+                "remove it and set body.half_turns",
+            )?;
+            let radius = b.radius.ok_or_else(|| {
+                missing(
+                    "body.radius",
+                    "add radius = ... under [body]: the distance from the ring axis to the section centre",
+                )
+            })?;
+            Ok(Body::Ring {
+                radius: len.positive("body.radius", radius)?,
+                half_turns: b.half_turns.unwrap_or(0),
+            })
+        }
+        BodyKindName::Straight => {
+            refuse(
+                &b.radius,
+                "body.radius",
+                "has no meaning for a straight guide",
+                "remove it, or use kind = \"ring\"",
+            )?;
+            refuse(
+                &b.half_turns,
+                "body.half_turns",
+                "applies to rings only",
+                "remove it; a straight guide twists with body.twist_rate",
+            )?;
+            let rate = finite("body.twist_rate", b.twist_rate.unwrap_or(0.0))?;
+            Ok(Body::Straight {
+                twist_rate: rate / len.0.metres(),
+            })
+        }
+    }
+}
+
+fn material_value(key: &str, raw: &RawMaterialValue) -> Result<Complex64> {
+    let z =
+        match raw {
+            RawMaterialValue::Real(x) => Complex64::new(*x, 0.0),
+            RawMaterialValue::Complex([re, im]) => Complex64::new(*re, *im),
+            RawMaterialValue::Tensor(_) => return Err(CaseError::new(
+                key,
+                "anisotropic (3x3 tensor) materials are not supported yet",
+                "give a scalar: a number, or [re, im]; tensors are planned (docs/case-files.md)",
+            )),
+        };
+    if !(z.re.is_finite() && z.im.is_finite()) {
+        return Err(CaseError::new(
+            key,
+            format!("{key} is not finite"),
+            "give ordinary numbers (not nan or inf)",
+        ));
+    }
+    if z.norm() == 0.0 {
+        return Err(CaseError::new(
+            key,
+            format!("{key} = 0 describes no material"),
+            "give the relative value (1 for vacuum)",
+        ));
+    }
+    if z.im < 0.0 {
+        return Err(CaseError::new(
+            key,
+            format!(
+                "{key} has a negative imaginary part ({}), which means gain under the exp(-i omega t) convention used here",
+                fmt_num(z.im)
+            ),
+            format!(
+                "for a lossy material give a positive imaginary part, e.g. [{}, {}] (loss tangent {})",
+                fmt_num(z.re),
+                fmt_num(-z.im),
+                fmt_num((-z.im / z.re).abs())
+            ),
+        ));
+    }
+    Ok(z)
+}
+
+fn materials(raw: &BTreeMap<String, RawMaterial>) -> Result<BTreeMap<String, Material>> {
+    raw.iter()
+        .map(|(name, m)| {
+            let eps_key = format!("materials.{name}.epsilon");
+            let epsilon = m.epsilon.as_ref().ok_or_else(|| {
+                missing(
+                    &eps_key,
+                    &format!("add epsilon = ... under [materials.{name}] (a number, or [re, im])"),
+                )
+            })?;
+            let mu = match &m.mu {
+                Some(v) => material_value(&format!("materials.{name}.mu"), v)?,
+                None => Complex64::new(1.0, 0.0),
+            };
+            Ok((
+                name.clone(),
+                Material {
+                    epsilon: material_value(&eps_key, epsilon)?,
+                    mu,
+                },
+            ))
+        })
+        .collect()
+}
+
+/// Keys that belong to each shape (besides `shape` itself).
+fn shape_keys(shape: ShapeName) -> &'static [&'static str] {
+    match shape {
+        ShapeName::Rectangle => &["width", "thickness", "corner_radius", "centre", "material"],
+        ShapeName::Disc => &["radius", "centre", "material"],
+        ShapeName::Ellipse => &["semi_axes", "centre", "material"],
+        ShapeName::Polygon => &["vertices", "centre", "material"],
+        ShapeName::Gmsh => &["file"],
+    }
+}
+
+fn shape_name(shape: ShapeName) -> &'static str {
+    match shape {
+        ShapeName::Rectangle => "rectangle",
+        ShapeName::Disc => "disc",
+        ShapeName::Ellipse => "ellipse",
+        ShapeName::Polygon => "polygon",
+        ShapeName::Gmsh => "gmsh",
+    }
+}
+
+fn section(
+    raw: Option<&RawSection>,
+    len: &Lengths,
+    materials: &BTreeMap<String, Material>,
+    base_dir: &Path,
+) -> Result<Section> {
+    let shapes = "one of \"rectangle\", \"disc\", \"ellipse\", \"polygon\", \"gmsh\"";
+    let s = raw.ok_or_else(|| {
+        missing(
+            "section",
+            &format!("add a table [section] with shape = \"rectangle\" ({shapes}) and its sizes"),
+        )
+    })?;
+    let kind = s.shape.ok_or_else(|| {
+        missing(
+            "section.shape",
+            &format!("add shape = \"rectangle\" ({shapes}) under [section]"),
+        )
+    })?;
+    let given: [(&str, bool); 9] = [
+        ("width", s.width.is_some()),
+        ("thickness", s.thickness.is_some()),
+        ("radius", s.radius.is_some()),
+        ("corner_radius", s.corner_radius.is_some()),
+        ("centre", s.centre.is_some()),
+        ("material", s.material.is_some()),
+        ("semi_axes", s.semi_axes.is_some()),
+        ("vertices", s.vertices.is_some()),
+        ("file", s.file.is_some()),
+    ];
+    let allowed = shape_keys(kind);
+    if let Some((key, _)) = given.iter().find(|(k, g)| *g && !allowed.contains(k)) {
+        return Err(CaseError::new(
+            format!("section.{key}"),
+            format!(
+                "section.{key} has no meaning for shape = \"{}\"",
+                shape_name(kind)
+            ),
+            format!(
+                "remove it ({} takes {})",
+                shape_name(kind),
+                allowed.join(", ")
+            ),
+        ));
+    }
+    let need = |value: Option<f64>, key: &str, what: &str| -> Result<f64> {
+        let v = value.ok_or_else(|| {
+            missing(
+                &format!("section.{key}"),
+                &format!("add {key} = ... under [section]: {what}"),
+            )
+        })?;
+        len.positive(&format!("section.{key}"), v)
+    };
+    let shape = match kind {
+        ShapeName::Gmsh => {
+            let file = s.file.as_ref().ok_or_else(|| {
+                missing(
+                    "section.file",
+                    "add file = \"section.msh\" under [section] (a Gmsh mesh, coordinates in units.length)",
+                )
+            })?;
+            return Ok(Section {
+                outline: SectionOutline::Gmsh {
+                    file: base_dir.join(file),
+                },
+                centre: [0.0, 0.0],
+            });
+        }
+        ShapeName::Rectangle => {
+            let width = need(s.width, "width", "the extent along u")?;
+            let thickness = need(s.thickness, "thickness", "the extent along v")?;
+            let corner_radius =
+                len.non_negative("section.corner_radius", s.corner_radius.unwrap_or(0.0))?;
+            if corner_radius > 0.5 * width.min(thickness) {
+                return Err(CaseError::new(
+                    "section.corner_radius",
+                    format!(
+                        "section.corner_radius = {} exceeds half the smaller side ({})",
+                        len.show(corner_radius),
+                        len.show(0.5 * width.min(thickness))
+                    ),
+                    "reduce it (half the smaller side gives fully rounded ends)",
+                ));
+            }
+            SectionShape::Rectangle {
+                width,
+                thickness,
+                corner_radius,
+            }
+        }
+        ShapeName::Disc => {
+            let r = need(s.radius, "radius", "the disc radius")?;
+            SectionShape::Ellipse { a: r, b: r }
+        }
+        ShapeName::Ellipse => {
+            let [a, b] = s.semi_axes.ok_or_else(|| {
+                missing(
+                    "section.semi_axes",
+                    "add semi_axes = [a, b] under [section] (a along u, b along v)",
+                )
+            })?;
+            SectionShape::Ellipse {
+                a: len.positive("section.semi_axes", a)?,
+                b: len.positive("section.semi_axes", b)?,
+            }
+        }
+        ShapeName::Polygon => polygon(s.vertices.as_deref(), len)?,
+    };
+    let material = s.material.clone().ok_or_else(|| {
+        missing(
+            "section.material",
+            "add material = \"NAME\" under [section] and a table [materials.NAME] with its epsilon",
+        )
+    })?;
+    if !materials.contains_key(&material) {
+        let names: Vec<&str> = materials.keys().map(String::as_str).collect();
+        let fix = match closest(&material, &names) {
+            Some(best) => format!(
+                "did you mean \"{best}\"? Defined materials: {}",
+                names.join(", ")
+            ),
+            None => format!(
+                "add a table [materials.{material}] with epsilon = ...{}",
+                if names.is_empty() {
+                    String::new()
+                } else {
+                    format!(", or use one of: {}", names.join(", "))
+                }
+            ),
+        };
+        return Err(CaseError::new(
+            "section.material",
+            format!("no material named \"{material}\""),
+            fix,
+        ));
+    }
+    let [cu, cv] = s.centre.unwrap_or([0.0, 0.0]);
+    let centre = [
+        len.0.to_metres(finite("section.centre", cu)?),
+        len.0.to_metres(finite("section.centre", cv)?),
+    ];
+    Ok(Section {
+        outline: SectionOutline::Shape { shape, material },
+        centre,
+    })
+}
+
+fn polygon(vertices: Option<&[[f64; 2]]>, len: &Lengths) -> Result<SectionShape> {
+    let key = "section.vertices";
+    let v = vertices.ok_or_else(|| {
+        missing(
+            key,
+            "add vertices = [[u0, v0], [u1, v1], [u2, v2], ...] under [section], relative to section.centre",
+        )
+    })?;
+    if v.len() < 3 {
+        return Err(CaseError::new(
+            key,
+            format!("a polygon needs at least 3 vertices, got {}", v.len()),
+            "list the outline's corners in order",
+        ));
+    }
+    let mut pts = Vec::with_capacity(v.len());
+    for p in v {
+        pts.push([
+            len.0.to_metres(finite(key, p[0])?),
+            len.0.to_metres(finite(key, p[1])?),
+        ]);
+    }
+    let scale = shape::bounding_radius(&SectionShape::Polygon {
+        vertices: pts.clone(),
+    });
+    if shape::polygon_area(&pts).abs() <= 1e-12 * scale * scale {
+        return Err(CaseError::new(
+            key,
+            "the polygon has zero area",
+            "give vertices that enclose a region",
+        ));
+    }
+    if let Some((i, j)) = shape::polygon_self_intersection(&pts) {
+        return Err(CaseError::new(
+            key,
+            format!("the polygon's sides {i} and {j} cross or touch (sides counted from 0; side k joins vertices k and k+1)"),
+            "list the vertices in order around the outline, without repeating the first one at the end",
+        ));
+    }
+    Ok(SectionShape::Polygon { vertices: pts })
+}
+
+fn surroundings(raw: &RawSurroundings, len: &Lengths, lambda0: f64) -> Result<SurroundingMedium> {
+    match raw.kind.unwrap_or(SurroundingsKindName::Open) {
+        SurroundingsKindName::Metal => {
+            let why = "has no meaning with surroundings.kind = \"metal\" (the section outline is the wall)";
+            refuse(&raw.epsilon, "surroundings.epsilon", why, "remove it")?;
+            refuse(&raw.padding, "surroundings.padding", why, "remove it")?;
+            refuse(
+                &raw.pml_thickness,
+                "surroundings.pml_thickness",
+                why,
+                "remove it",
+            )?;
+            Ok(SurroundingMedium::Metal)
+        }
+        SurroundingsKindName::Open => {
+            let epsilon = match &raw.epsilon {
+                Some(v) => material_value("surroundings.epsilon", v)?,
+                None => Complex64::new(1.0, 0.0),
+            };
+            let local = lambda0 / epsilon.norm().sqrt();
+            let padding = match raw.padding {
+                Some(p) => len.positive("surroundings.padding", p)?,
+                None => DEFAULT_LAYER_WAVELENGTHS * local,
+            };
+            let pml_thickness = match raw.pml_thickness {
+                Some(p) => len.non_negative("surroundings.pml_thickness", p)?,
+                None => DEFAULT_LAYER_WAVELENGTHS * local,
+            };
+            Ok(SurroundingMedium::Open {
+                epsilon,
+                padding,
+                pml_thickness,
+            })
+        }
+    }
+}
+
+fn outline_shape(section: &Section) -> Option<&SectionShape> {
+    match &section.outline {
+        SectionOutline::Shape { shape, .. } => Some(shape),
+        SectionOutline::Gmsh { .. } => None,
+    }
+}
+
+fn mesh_settings(raw: &RawMesh, body: &Body, section: &Section) -> Result<MeshSettings> {
+    let order = match raw.order.unwrap_or(2) {
+        1 => GeometryOrder::Linear,
+        2 => GeometryOrder::Quadratic,
+        other => {
+            return Err(CaseError::new(
+                "mesh.order",
+                format!("mesh.order = {other} is not available"),
+                "use 1 or 2",
+            ))
+        }
+    };
+    let resolution = finite(
+        "mesh.resolution",
+        raw.resolution.unwrap_or(DEFAULT_RESOLUTION),
+    )?;
+    if resolution < 2.0 {
+        return Err(CaseError::new(
+            "mesh.resolution",
+            format!(
+                "mesh.resolution = {} elements per wavelength cannot represent a wave",
+                fmt_num(resolution)
+            ),
+            format!("use at least 2; {DEFAULT_RESOLUTION} is the default"),
+        ));
+    }
+    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 == 1);
+    let pi_symmetric = match raw.pi_symmetric {
+        None => odd_ring && outline_shape(section).is_some(),
+        Some(false) => false,
+        Some(true) => {
+            if matches!(body, Body::Revolution) {
+                return Err(CaseError::new(
+                    "mesh.pi_symmetric",
+                    "a body of revolution's (r, z) domain cannot be rotated by pi about the section",
+                    "remove mesh.pi_symmetric (or set it to false)",
+                ));
+            }
+            match outline_shape(section) {
+                None => {
+                    return Err(CaseError::new(
+                        "mesh.pi_symmetric",
+                        "a Gmsh section is used as it is and cannot be made pi-symmetric here",
+                        "remove mesh.pi_symmetric, or make the Gmsh mesh symmetric yourself",
+                    ))
+                }
+                Some(shape) if !shape::is_pi_symmetric(shape) => {
+                    return Err(CaseError::new(
+                        "mesh.pi_symmetric",
+                        "the section is not symmetric under rotation by pi about its centre",
+                        "set mesh.pi_symmetric = false, or give a section with that symmetry",
+                    ))
+                }
+                Some(_) => true,
+            }
+        }
+    };
+    Ok(MeshSettings {
+        order,
+        resolution,
+        pi_symmetric,
+    })
+}
+
+fn midplane(raw: &RawBoundary, body: &Body, section: &Section) -> Result<Midplane> {
+    let value = match raw.midplane.unwrap_or(MidplaneName::None) {
+        MidplaneName::None => return Ok(Midplane::None),
+        MidplaneName::Electric => Midplane::Electric,
+        MidplaneName::Magnetic => Midplane::Magnetic,
+    };
+    if !matches!(body, Body::Revolution) {
+        return Err(CaseError::new(
+            "boundary.midplane",
+            "boundary.midplane applies to bodies of revolution only",
+            "remove it, or use body.kind = \"revolution\"",
+        ));
+    }
+    let symmetric = match outline_shape(section) {
+        Some(shape) => section.centre[1] == 0.0 && shape::is_mirror_symmetric_in_v(shape),
+        None => false,
+    };
+    if !symmetric {
+        return Err(CaseError::new(
+            "boundary.midplane",
+            "a midplane condition needs a section that is mirror-symmetric about z = 0 (built-in shape, section.centre = [r, 0])",
+            "set boundary.midplane = \"none\", or centre a symmetric section on z = 0",
+        ));
+    }
+    Ok(value)
+}
+
+fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Result<Search> {
+    let count = s.count.unwrap_or(DEFAULT_COUNT as u32);
+    if count == 0 {
+        return Err(CaseError::new(
+            "search.count",
+            "search.count = 0 asks for no modes",
+            format!("use at least 1 ({DEFAULT_COUNT} is the default)"),
+        ));
+    }
+    let (order, harmonics) = match body {
+        Body::Straight { .. } => {
+            refuse(
+                &s.m,
+                "search.m",
+                "applies to revolution bodies and rings; a straight guide is solved for a propagation constant",
+                "remove it and give search.beta (rad per units.length)",
+            )?;
+            refuse(
+                &s.harmonics,
+                "search.harmonics",
+                "applies to twisted rings only",
+                "remove it",
+            )?;
+            let beta = s.beta.ok_or_else(|| {
+                missing(
+                    "search.beta",
+                    "add beta = ... under [search]: the propagation constant, rad per units.length",
+                )
+            })?;
+            let beta = finite("search.beta", beta)? / len.0.metres();
+            (ModeOrder::Propagation { beta }, 0)
+        }
+        Body::Revolution | Body::Ring { .. } => {
+            refuse(
+                &s.beta,
+                "search.beta",
+                "applies to straight guides; revolution bodies and rings are solved for an azimuthal order",
+                "remove it and give search.m",
+            )?;
+            let m = s.m.ok_or_else(|| {
+                missing(
+                    "search.m",
+                    "add m = ... under [search]: the azimuthal order (field varies as exp(i m phi))",
+                )
+            })?;
+            (
+                ModeOrder::Azimuthal(azimuthal_order(m, body)?),
+                harmonics(s, body)?,
+            )
+        }
+    };
+    Ok(Search {
+        order,
+        near_frequency,
+        count: count as usize,
+        harmonics,
+    })
+}
+
+fn azimuthal_order(m: f64, body: &Body) -> Result<AzimuthalOrder> {
+    let m = finite("search.m", m)?;
+    let twice = 2.0 * m;
+    if twice.fract() != 0.0 || twice.abs() > 1e15 {
+        return Err(CaseError::new(
+            "search.m",
+            format!(
+                "search.m = {} is neither an integer nor a half-integer",
+                fmt_num(m)
+            ),
+            "give a whole number such as 12 (or 12.5 for a ring with odd body.half_turns)",
+        ));
+    }
+    let order = AzimuthalOrder::from_twice(twice as i64);
+    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 == 1);
+    if order.is_half_integer() && !odd_ring {
+        return Err(CaseError::new(
+            "search.m",
+            format!(
+                "search.m = {} is a half-integer, which only a ring with an odd number of half turns allows",
+                fmt_num(m)
+            ),
+            "give a whole number",
+        ));
+    }
+    Ok(order)
+}
+
+fn harmonics(s: &RawSearch, body: &Body) -> Result<u32> {
+    match (body, s.harmonics) {
+        (Body::Revolution, Some(_)) => Err(CaseError::new(
+            "search.harmonics",
+            "search.harmonics applies to twisted rings only; a body of revolution needs one harmonic",
+            "remove it",
+        )),
+        (Body::Ring { half_turns: 0, .. }, Some(k)) if k > 0 => Err(CaseError::new(
+            "search.harmonics",
+            format!("search.harmonics = {k} on an untwisted ring (body.half_turns = 0): one harmonic is exact there"),
+            "remove it, or give body.half_turns > 0 for a twisted ring",
+        )),
+        (Body::Ring { half_turns, .. }, Some(0)) if *half_turns > 0 => Err(CaseError::new(
+            "search.harmonics",
+            "search.harmonics = 0 on a twisted ring averages the bend away and gives wrong frequencies and Q",
+            format!("use at least 1 (default {DEFAULT_TWISTED_HARMONICS}) and compare with one more to see convergence"),
+        )),
+        (Body::Ring { half_turns, .. }, None) if *half_turns > 0 => Ok(DEFAULT_TWISTED_HARMONICS),
+        (_, k) => Ok(k.unwrap_or(0)),
+    }
+}
+
+/// Checks that need the body, the section and the surroundings together.
+fn check_placement(
+    body: &Body,
+    section: &Section,
+    surroundings: &SurroundingMedium,
+    raw: &RawSurroundings,
+    len: &Lengths,
+) -> Result<()> {
+    let Some(shape) = outline_shape(section) else {
+        return Ok(()); // Gmsh sections are checked when the mesh is read.
+    };
+    match *body {
+        Body::Ring { radius, half_turns } => {
+            if section.centre != [0.0, 0.0] {
+                return Err(CaseError::new(
+                    "section.centre",
+                    "a ring's section is placed by body.radius; section.centre must be [0, 0]",
+                    "remove section.centre and set body.radius to the distance from the axis to the section centre",
+                ));
+            }
+            if half_turns % 2 == 1 && !shape::is_pi_symmetric(shape) {
+                return Err(CaseError::new(
+                    "body.half_turns",
+                    format!("a ring with an odd number of half turns ({half_turns}) closes on itself only if its section is symmetric under rotation by pi, and this one is not"),
+                    "use an even body.half_turns, or a section with that symmetry (rectangle, ellipse, pi-symmetric polygon)",
+                ));
+            }
+            let r_section = shape::bounding_radius(shape);
+            let (reach, detail, fix) = match *surroundings {
+                SurroundingMedium::Metal => (
+                    if half_turns == 0 {
+                        -shape::bounding_box(shape)[0]
+                    } else {
+                        r_section
+                    },
+                    String::new(),
+                    "increase body.radius or shrink the section".to_string(),
+                ),
+                SurroundingMedium::Open {
+                    padding,
+                    pml_thickness,
+                    ..
+                } => {
+                    let defaults = raw.padding.is_none() || raw.pml_thickness.is_none();
+                    (
+                        r_section + padding + pml_thickness,
+                        format!(
+                            " (section {}, padding {}, PML {})",
+                            len.show(r_section),
+                            len.show(padding),
+                            len.show(pml_thickness)
+                        ),
+                        format!(
+                            "increase body.radius or reduce surroundings.padding{}",
+                            if defaults {
+                                " and surroundings.pml_thickness (their defaults, half a local wavelength each, are too large here: set them explicitly)"
+                            } else {
+                                " or surroundings.pml_thickness"
+                            }
+                        ),
+                    )
+                }
+            };
+            if reach >= radius {
+                return Err(CaseError::new(
+                    "body.radius",
+                    format!(
+                        "body.radius = {} but the section reaches {} from its centre{detail}, so the model would cross the ring axis",
+                        len.show(radius),
+                        len.show(reach)
+                    ),
+                    fix,
+                ));
+            }
+        }
+        Body::Revolution => {
+            let u_min = section.centre[0] + shape::bounding_box(shape)[0];
+            if u_min < 0.0 {
+                let on_axis = section.centre[0] == 0.0 && shape::is_mirror_symmetric_in_u(shape);
+                if !on_axis {
+                    return Err(CaseError::new(
+                        "section.centre",
+                        format!(
+                            "the section reaches r = {}, across the axis, without being centred on it",
+                            len.show(u_min)
+                        ),
+                        "move the section to r >= 0 (raise section.centre[0]), or centre a shape symmetric about the axis on it (section.centre = [0, z]); only its r >= 0 half is used",
+                    ));
+                }
+            }
+        }
+        Body::Straight { .. } => {}
+    }
+    Ok(())
+}
