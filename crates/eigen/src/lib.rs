@@ -11,12 +11,18 @@
 #![deny(missing_docs)]
 
 mod error;
+mod matrix_market;
 pub mod model;
 mod shift_invert;
 mod solve;
+mod window;
 
 pub use error::EigenError;
 pub use faer::c64;
+pub use matrix_market::{read_matrix_market, write_matrix_market};
 pub use model::sparse_from_triplets;
 pub use shift_invert::{FactorReport, FillOrdering, Pencil, ShiftInvert};
 pub use solve::{relative_residual, solve_near, EigenPair, SolveOptions, Spectrum, Stats, Status};
+pub use window::{
+    merge_duplicates, solve_window, ShiftOutcome, ShiftSpacing, Window, WindowSpectrum,
+};

@@ -277,8 +277,7 @@ impl ShiftInvert<'_> {
         let got = info.n_converged_eigen.min(want);
         let pencil = self.pencil();
         let mut pairs = Vec::with_capacity(got);
-        for j in 0..got {
-            let theta = vals[j];
+        for (j, &theta) in vals.iter().enumerate().take(got) {
             if theta.norm() == 0.0 || !theta.norm().is_finite() {
                 continue;
             }
@@ -344,7 +343,7 @@ fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenError> {
     if opts.count == 0 {
         return Err(EigenError::InvalidOption("count must be at least 1".into()));
     }
-    if !(opts.tol > 0.0) {
+    if opts.tol.is_nan() || opts.tol <= 0.0 {
         return Err(EigenError::InvalidOption(format!(
             "tol must be positive, got {}",
             opts.tol

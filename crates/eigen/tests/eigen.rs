@@ -1,0 +1,380 @@
+//! Accuracy and behaviour of the eigen engine against outside references.
+
+use std::path::PathBuf;
+
+use twistmode_eigen::model::{laplacian_2d_dirichlet, laplacian_2d_dirichlet_eigenvalues};
+use twistmode_eigen::*;
+
+fn fixture(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/fixtures")
+        .join(name)
+}
+
+/// Exact values sorted by distance to `sigma`, first `count`.
+fn nearest(exact: &[c64], sigma: c64, count: usize) -> Vec<c64> {
+    let mut e = exact.to_vec();
+    e.sort_by(|a, b| (a - sigma).norm().total_cmp(&(b - sigma).norm()));
+    e.truncate(count);
+    e
+}
+
+/// Every computed value matches a distinct exact one (a one-to-one matching), i.e. the
+/// returned set is exactly the nearest `count` with multiplicity: none skipped.
+fn assert_same_multiset(found: &[c64], expected: &[c64], rel: f64) {
+    assert_eq!(
+        found.len(),
+        expected.len(),
+        "found {found:?}\nexpected {expected:?}"
+    );
+    let mut used = vec![false; expected.len()];
+    for f in found {
+        let hit = expected
+            .iter()
+            .enumerate()
+            .filter(|(i, e)| !used[*i] && (*f - **e).norm() <= rel * e.norm().max(1.0))
+            .map(|(i, _)| i)
+            .next();
+        match hit {
+            Some(i) => used[i] = true,
+            None => panic!("{f} matches no unused expected value in {expected:?}"),
+        }
+    }
+}
+
+fn lambdas(s: &Spectrum) -> Vec<c64> {
+    s.pairs.iter().map(|p| p.lambda).collect()
+}
+
+fn real(v: &[f64]) -> Vec<c64> {
+    v.iter().map(|&x| c64::new(x, 0.0)).collect()
+}
+
+#[test]
+fn laplacian_interior_shift_finds_nearest_pairs_with_degeneracies() {
+    // Source: standard finite-difference analysis of the 5-point stencil,
+    // lambda_ij = 4/h^2 (sin^2(i pi h/2) + sin^2(j pi h/2)).
+    let m = 24;
+    let pencil = laplacian_2d_dirichlet(m);
+    let exact = real(&laplacian_2d_dirichlet_eigenvalues(m));
+    let sigma = c64::new(700.0, 0.0);
+    let opts = SolveOptions {
+        count: 16,
+        ..Default::default()
+    };
+    let s = solve_near(&pencil, sigma, &opts).unwrap();
+    assert_eq!(s.status, Status::Converged);
+    assert_eq!(s.nudged_from, None);
+    assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 16), 1e-10);
+    for p in &s.pairs {
+        assert!(p.converged && p.residual < 1e-10, "residual {}", p.residual);
+        let norm: f64 = p.vector.iter().map(|a| a.norm_sqr()).sum::<f64>().sqrt();
+        assert!((norm - 1.0).abs() < 1e-12);
+        // the reported residual is the true one
+        assert!((relative_residual(&pencil, p.lambda, &p.vector) - p.residual).abs() < 1e-14);
+    }
+    // sorted by distance to the shift
+    for w in s.pairs.windows(2) {
+        assert!((w[0].lambda - sigma).norm() <= (w[1].lambda - sigma).norm() + 1e-9);
+    }
+    // exact degeneracies (i,j)/(j,i): both copies, with independent vectors
+    let mut doubles = 0;
+    for (a, pa) in s.pairs.iter().enumerate() {
+        for pb in &s.pairs[a + 1..] {
+            if (pa.lambda - pb.lambda).norm() < 1e-8 * pa.lambda.norm() {
+                doubles += 1;
+                let overlap: c64 = pa
+                    .vector
+                    .iter()
+                    .zip(&pb.vector)
+                    .map(|(x, y)| x.conj() * y)
+                    .sum();
+                assert!(overlap.norm() < 0.9, "copies of {} are parallel", pa.lambda);
+            }
+        }
+    }
+    assert!(
+        doubles >= 4,
+        "expected several degenerate pairs near 700, got {doubles}"
+    );
+}
+
+#[test]
+fn random_complex_pencil_matches_dense_qz() {
+    // Fixture: tools/eigen_fixtures.py (scipy.linalg.eig, LAPACK QZ on the dense pencil).
+    let text = std::fs::read_to_string(fixture("random_pencil.json")).unwrap();
+    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let n = json["n"].as_u64().unwrap() as usize;
+    let trip = |key: &str| -> Vec<(usize, usize, c64)> {
+        json[key]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|t| {
+                let t = t.as_array().unwrap();
+                (
+                    t[0].as_u64().unwrap() as usize,
+                    t[1].as_u64().unwrap() as usize,
+                    c64::new(t[2].as_f64().unwrap(), t[3].as_f64().unwrap()),
+                )
+            })
+            .collect()
+    };
+    let pencil = Pencil::try_new(
+        sparse_from_triplets(n, n, &trip("k")).unwrap(),
+        sparse_from_triplets(n, n, &trip("m")).unwrap(),
+    )
+    .unwrap();
+    let exact: Vec<c64> = json["eigenvalues"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|z| c64::new(z[0].as_f64().unwrap(), z[1].as_f64().unwrap()))
+        .collect();
+    for sigma in [c64::new(5.0, 0.3), c64::new(2.0, -0.5)] {
+        let opts = SolveOptions {
+            count: 12,
+            ..Default::default()
+        };
+        let s = solve_near(&pencil, sigma, &opts).unwrap();
+        assert_eq!(s.status, Status::Converged);
+        assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 12), 1e-9);
+        assert!(s.pairs.iter().all(|p| p.converged && p.residual < 1e-10));
+    }
+}
+
+#[test]
+fn shift_on_an_eigenvalue_is_nudged_and_reported() {
+    // Source: standard finite-difference analysis (5-point Laplacian eigenvalues).
+    let m = 16;
+    let pencil = laplacian_2d_dirichlet(m);
+    let exact = real(&laplacian_2d_dirichlet_eigenvalues(m));
+    let sigma = exact[0]; // simple lowest eigenvalue, as a shift exactly on it
+    let opts = SolveOptions {
+        count: 5,
+        ..Default::default()
+    };
+    let s = solve_near(&pencil, sigma, &opts).unwrap();
+    assert_eq!(s.nudged_from, Some(sigma));
+    assert!(s.shift != sigma && (s.shift - sigma).norm() < 1e-3 * sigma.norm());
+    assert_eq!(s.status, Status::Converged);
+    assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 5), 1e-10);
+    assert!((s.pairs[0].lambda - sigma).norm() < 1e-10 * sigma.norm());
+}
+
+#[test]
+fn restart_limit_reports_non_convergence() {
+    let m = 30;
+    let pencil = laplacian_2d_dirichlet(m);
+    let sigma = c64::new(3000.0, 0.0);
+    // no restart at all: nothing locked, said so
+    let opts = SolveOptions {
+        count: 30,
+        max_restarts: 0,
+        ..Default::default()
+    };
+    let s = solve_near(&pencil, sigma, &opts).unwrap();
+    assert_eq!(
+        s.status,
+        Status::MaxRestarts {
+            converged: 0,
+            requested: 30
+        }
+    );
+    assert!(s.pairs.is_empty());
+    // one restart with the smallest subspace: some, not all
+    let opts = SolveOptions {
+        count: 30,
+        max_restarts: 1,
+        krylov_dim: Some(64),
+        ..Default::default()
+    };
+    let s = solve_near(&pencil, sigma, &opts).unwrap();
+    match s.status {
+        Status::MaxRestarts {
+            converged,
+            requested,
+        } => {
+            assert_eq!(requested, 30);
+            assert_eq!(converged, s.pairs.len());
+            assert!(converged < 30);
+        }
+        other => panic!("expected MaxRestarts, got {other:?}"),
+    }
+    for p in &s.pairs {
+        assert!((relative_residual(&pencil, p.lambda, &p.vector) - p.residual).abs() < 1e-14);
+        assert_eq!(p.converged, p.residual <= opts.tol);
+    }
+}
+
+#[test]
+fn static_modes_are_counted_and_set_aside() {
+    // K = diag(0 (5 copies), Laplacian), M = I: lambda = 0 five times (a stand-in for
+    // gradient modes), then the Laplacian spectrum (standard finite-difference analysis).
+    let m = 12;
+    let lap = laplacian_2d_dirichlet(m);
+    let n0 = 5;
+    let n = n0 + m * m;
+    let mut kt = Vec::new();
+    for j in 0..m * m {
+        for (i, v) in lap
+            .k
+            .as_ref()
+            .row_idx_of_col(j)
+            .zip(lap.k.as_ref().val_of_col(j))
+        {
+            kt.push((i + n0, j + n0, *v));
+        }
+    }
+    let mt: Vec<_> = (0..n).map(|i| (i, i, c64::new(1.0, 0.0))).collect();
+    let pencil = Pencil::try_new(
+        sparse_from_triplets(n, n, &kt).unwrap(),
+        sparse_from_triplets(n, n, &mt).unwrap(),
+    )
+    .unwrap();
+    let exact = real(&laplacian_2d_dirichlet_eigenvalues(m));
+    let sigma = c64::new(5.0, 0.0);
+    let opts = SolveOptions {
+        count: 4,
+        static_below: 1e-6,
+        ..Default::default()
+    };
+    let s = solve_near(&pencil, sigma, &opts).unwrap();
+    assert_eq!(s.static_dropped, 5);
+    assert_eq!(s.status, Status::Converged);
+    assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 4), 1e-10);
+}
+
+#[test]
+fn window_covers_band_and_merges_duplicates() {
+    // Source: standard finite-difference analysis (5-point Laplacian eigenvalues).
+    let m = 20;
+    let pencil = laplacian_2d_dirichlet(m);
+    let exact = laplacian_2d_dirichlet_eigenvalues(m);
+    let window = Window {
+        lo: 100.0,
+        hi: 400.0,
+        shifts: 3,
+        spacing: ShiftSpacing::SqrtLambda,
+    };
+    let opts = SolveOptions {
+        count: 16,
+        ..Default::default()
+    };
+    let w = solve_window(&pencil, &window, &opts).unwrap();
+    assert!(w.gaps.is_empty(), "gaps {:?}", w.gaps);
+    assert!(w.merged_duplicates > 0);
+    let inside: Vec<c64> = exact
+        .iter()
+        .filter(|&&x| (100.0..=400.0).contains(&x))
+        .map(|&x| c64::new(x, 0.0))
+        .collect();
+    let found: Vec<c64> = w.pairs.iter().map(|p| p.lambda).collect();
+    assert_same_multiset(&found, &inside, 1e-10);
+    for p in w.pairs.windows(2) {
+        assert!(p[0].lambda.re <= p[1].lambda.re);
+    }
+}
+
+#[test]
+fn symbolic_analysis_is_reused_across_shifts_and_orderings_agree() {
+    // Source: standard finite-difference analysis (5-point Laplacian eigenvalues).
+    let m = 18;
+    let pencil = laplacian_2d_dirichlet(m);
+    let exact = real(&laplacian_2d_dirichlet_eigenvalues(m));
+    for ordering in [FillOrdering::AmdSymmetric, FillOrdering::Colamd] {
+        let mut op = ShiftInvert::try_new_with_ordering(&pencil, ordering).unwrap();
+        let fill = op.fill_nnz();
+        assert!(fill >= op.pattern_nnz());
+        for sigma in [c64::new(300.0, 0.0), c64::new(900.0, 10.0)] {
+            let s = op
+                .solve_near(
+                    sigma,
+                    &SolveOptions {
+                        count: 6,
+                        ..Default::default()
+                    },
+                )
+                .unwrap();
+            assert_eq!(s.stats.fill_nnz, fill);
+            assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 6), 1e-10);
+        }
+    }
+}
+
+#[test]
+fn matrix_market_round_trip_and_scipy_file() {
+    // Fixture: tools/eigen_fixtures.py (K written by scipy.io.mmwrite, and its triplets).
+    let k = read_matrix_market(&fixture("scipy_written.mtx")).unwrap();
+    let text = std::fs::read_to_string(fixture("random_pencil.json")).unwrap();
+    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let n = json["n"].as_u64().unwrap() as usize;
+    let t: Vec<(usize, usize, c64)> = json["k"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|t| {
+            (
+                t[0].as_u64().unwrap() as usize,
+                t[1].as_u64().unwrap() as usize,
+                c64::new(t[2].as_f64().unwrap(), t[3].as_f64().unwrap()),
+            )
+        })
+        .collect();
+    let expected = sparse_from_triplets(n, n, &t).unwrap();
+    assert_eq!(k.as_ref().compute_nnz(), expected.as_ref().compute_nnz());
+    let dense_a = k.as_ref().to_dense();
+    let dense_b = expected.as_ref().to_dense();
+    let diff = (&dense_a - &dense_b).norm_max();
+    // serde_json without `float_roundtrip` may be off by one ulp when reading the JSON copy
+    assert!(
+        diff <= 4.0 * f64::EPSILON * dense_b.norm_max(),
+        "max difference {diff}"
+    );
+
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("k.mtx");
+    write_matrix_market(&path, &expected).unwrap();
+    let back = read_matrix_market(&path).unwrap();
+    assert!((back.as_ref().to_dense() - &dense_b).norm_max() == 0.0);
+    let head = std::fs::read_to_string(&path).unwrap();
+    assert!(head.starts_with("%%MatrixMarket matrix coordinate complex general\n"));
+}
+
+#[test]
+fn triplet_duplicates_are_summed() {
+    let a = sparse_from_triplets(
+        2,
+        2,
+        &[
+            (0, 0, c64::new(1.0, 0.0)),
+            (0, 0, c64::new(2.0, 1.0)),
+            (1, 0, c64::new(0.5, 0.0)),
+        ],
+    )
+    .unwrap();
+    let d = a.as_ref().to_dense();
+    assert_eq!(d[(0, 0)], c64::new(3.0, 1.0));
+    assert_eq!(d[(1, 0)], c64::new(0.5, 0.0));
+}
+
+#[test]
+fn shape_and_option_errors_are_typed() {
+    let a = laplacian_2d_dirichlet(3);
+    let b = laplacian_2d_dirichlet(4);
+    assert!(matches!(
+        Pencil::try_new(a.k.clone(), b.m.clone()),
+        Err(EigenError::ShapeMismatch { .. })
+    ));
+    let opts = SolveOptions {
+        start: Some(vec![c64::new(1.0, 0.0); 2]),
+        ..Default::default()
+    };
+    assert!(matches!(
+        solve_near(&a, c64::new(1.0, 0.0), &opts),
+        Err(EigenError::VectorLength {
+            got: 2,
+            expected: 9
+        })
+    ));
+}
