@@ -28,6 +28,7 @@ mod error;
 pub mod generate;
 mod gmsh;
 mod topology;
+mod transform;
 
 pub use generate::generate;
 pub use gmsh::{parse_gmsh, read_gmsh, write_gmsh, write_gmsh_string};

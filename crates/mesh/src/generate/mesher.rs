@@ -73,6 +73,14 @@ fn seg_key(a: P2, b: P2) -> SegKey {
     }
 }
 
+/// Largest edge in the PML: at most its thickness.
+fn shell_max(s: &Surroundings) -> f64 {
+    match s {
+        Surroundings::Medium { pml_thickness, .. } if *pml_thickness > 0.0 => *pml_thickness,
+        _ => f64::INFINITY,
+    }
+}
+
 /// Checks the spec; returns nothing but clear errors.
 fn validate(spec: &GeneratorSpec) -> Result<(), MeshError> {
     let b = &spec.body;
@@ -531,7 +539,7 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
                     kind: RegionKind::Pml,
                 },
                 loops: vec![1, 2],
-                max_edge: h_out,
+                max_edge: h_out.min(shell_max(&spec.surroundings)),
             });
         }
     }
@@ -558,7 +566,15 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
             .fold(f64::INFINITY, f64::min)
     };
     let graded = |cap: f64| move |x: P2| cap.min(h_outline + GRADING * distance(x));
-    let outer_size = graded(h_out);
+    // The PML circles or boxes are at least one element apart: their
+    // segments are no longer than the PML thickness (else the shell's
+    // triangles would be slivers, and curved ones inverted).
+    let shell = match medium {
+        Some((_, t)) if t > 0.0 => t,
+        _ => f64::INFINITY,
+    };
+    let graded_out = graded(h_out);
+    let outer_size = |x: P2| graded_out(x).min(shell);
     let mut loop_segs: Vec<Vec<Seg>> = vec![outline.clone()];
     for l in &loops[1..] {
         loop_segs.push(discretise_loop(l, &axes, &outer_size, max_turn, snap_tol)?);
