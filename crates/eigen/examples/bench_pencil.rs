@@ -1,0 +1,133 @@
+//! Benchmark: 10 eigenpairs near an interior shift of a complex, non-Hermitian 2D
+//! P1 Helmholtz-like pencil with an absorbing layer (`model::helmholtz_p1_absorbing`),
+//! timed against scipy's shift-invert `eigs` on the same exported pencil.
+//!
+//! ```text
+//! cargo run --release -p twistmode-eigen --example bench_pencil -- [CELLS] [--no-scipy] [--orderings]
+//! ```
+//! CELLS = 501 gives 500^2 = 250 000 unknowns. Run from the workspace root (the scipy
+//! reference is `tools/eigs_reference.py`).
+
+use std::process::Command;
+use std::time::Instant;
+
+use twistmode_eigen::model::helmholtz_p1_absorbing;
+use twistmode_eigen::{c64, write_matrix_market, FillOrdering, ShiftInvert, SolveOptions};
+
+fn peak_memory_mib() -> f64 {
+    std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            s.lines().find(|l| l.starts_with("VmHWM:")).and_then(|l| {
+                l.split_whitespace()
+                    .nth(1)
+                    .and_then(|v| v.parse::<f64>().ok())
+            })
+        })
+        .map_or(f64::NAN, |kib| kib / 1024.0)
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let cells: usize = args.iter().find_map(|a| a.parse().ok()).unwrap_or(501);
+    let with_scipy = !args.iter().any(|a| a == "--no-scipy");
+    let compare_orderings = args.iter().any(|a| a == "--orderings");
+    let count = 10;
+    let sigma = c64::new(2000.0, 0.0);
+
+    let t = Instant::now();
+    let pencil = helmholtz_p1_absorbing(cells);
+    println!(
+        "pencil: n = {}, nnz(K) = {}, nnz(M) = {}, built in {:.2} s",
+        pencil.dim(),
+        pencil.k.as_ref().compute_nnz(),
+        pencil.m.as_ref().compute_nnz(),
+        t.elapsed().as_secs_f64()
+    );
+
+    if compare_orderings {
+        for ordering in [FillOrdering::AmdSymmetric, FillOrdering::Colamd] {
+            let mut op = ShiftInvert::try_new_with_ordering(&pencil, ordering).unwrap();
+            let r = op.factor(sigma).unwrap();
+            println!("ordering {:?}: fill nnz(L+U) = {} ({:.1} x pattern), analysis {:.2} s, factor {:.2} s",
+                ordering, op.fill_nnz(), op.fill_nnz() as f64 / op.pattern_nnz() as f64,
+                op.analysis_seconds(), r.seconds);
+        }
+    }
+
+    let t = Instant::now();
+    let mut op = ShiftInvert::try_new(&pencil).expect("symbolic analysis");
+    let opts = SolveOptions {
+        count,
+        tol: 1e-10,
+        ..Default::default()
+    };
+    let s = op.solve_near(sigma, &opts).expect("solve");
+    let ours = t.elapsed().as_secs_f64();
+    println!("ours: status {:?}, {} pairs, total {:.2} s (analysis {:.2}, factor {:.2}, iterations {:.2}), \
+              {} operator applications, fill nnz(L+U) = {}, condition ~ {:.1e}, peak memory {:.0} MiB",
+        s.status, s.pairs.len(), ours, s.stats.analysis_seconds, s.stats.factor_seconds,
+        s.stats.iteration_seconds, s.stats.operator_applications, s.stats.fill_nnz, s.stats.condition,
+        peak_memory_mib());
+    for p in &s.pairs {
+        println!(
+            "  lambda = {:>22.12} {:+.12}i  residual {:.1e}",
+            p.lambda.re, p.lambda.im, p.residual
+        );
+    }
+    if !with_scipy {
+        return;
+    }
+    let dir = std::env::temp_dir().join(format!("twistmode-eigen-bench-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let (kp, mp) = (dir.join("k.mtx"), dir.join("m.mtx"));
+    write_matrix_market(&kp, &pencil.k).unwrap();
+    write_matrix_market(&mp, &pencil.m).unwrap();
+    let out = Command::new("python3")
+        .args([
+            "tools/eigs_reference.py",
+            kp.to_str().unwrap(),
+            mp.to_str().unwrap(),
+            &sigma.re.to_string(),
+            &sigma.im.to_string(),
+            &count.to_string(),
+        ])
+        .output()
+        .expect("python3 tools/eigs_reference.py");
+    let _ = std::fs::remove_dir_all(&dir);
+    if !out.status.success() {
+        eprintln!(
+            "scipy reference failed:\n{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        return;
+    }
+    let text = String::from_utf8_lossy(&out.stdout);
+    let json: serde_json::Value =
+        serde_json::from_str(text.trim()).expect("JSON from the reference");
+    let scipy_seconds = json["solve_seconds"].as_f64().unwrap();
+    let theirs: Vec<c64> = json["eigenvalues"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|z| c64::new(z[0].as_f64().unwrap(), z[1].as_f64().unwrap()))
+        .collect();
+    let worst = s
+        .pairs
+        .iter()
+        .map(|p| {
+            theirs
+                .iter()
+                .map(|q| (p.lambda - q).norm() / q.norm())
+                .fold(f64::INFINITY, f64::min)
+        })
+        .fold(0.0, f64::max);
+    println!(
+        "scipy eigs: {:.2} s (load excluded), worst relative eigenvalue difference {:.1e}",
+        scipy_seconds, worst
+    );
+    println!(
+        "time ratio ours / scipy = {:.3} (goal <= 0.5)",
+        ours / scipy_seconds
+    );
+}
