@@ -64,6 +64,15 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
         .tempfile_in(&dir)
         .map_err(io_error(path))?;
     tmp.write_all(bytes).map_err(io_error(path))?;
+    #[cfg(unix)]
+    {
+        // Temporary files are created private (0600); results are ordinary files.
+        use std::os::unix::fs::PermissionsExt;
+        let mode = std::fs::metadata(path).map_or(0o644, |m| m.permissions().mode() & 0o7777);
+        tmp.as_file()
+            .set_permissions(std::fs::Permissions::from_mode(mode))
+            .map_err(io_error(path))?;
+    }
     tmp.as_file().sync_all().map_err(io_error(path))?;
     tmp.persist(path).map_err(|e| OutputError::Io {
         path: path.to_path_buf(),
@@ -259,6 +268,12 @@ quasi-TM 12     10.5    987
         let back: serde_json::Value =
             serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
         assert_eq!(back["f"], 7.0e9);
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let mode = std::fs::metadata(&path).unwrap().permissions().mode();
+            assert_eq!(mode & 0o777, 0o644);
+        }
         let names: Vec<_> = std::fs::read_dir(path.parent().unwrap())
             .unwrap()
             .map(|e| e.unwrap().file_name())

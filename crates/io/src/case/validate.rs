@@ -73,7 +73,10 @@ pub(crate) fn fmt_num(x: f64) -> String {
         return format!("{x}");
     }
     if !(1e-3..1e6).contains(&x.abs()) {
-        return format!("{x:.3e}");
+        let s = format!("{x:.3e}");
+        let (mantissa, exponent) = s.split_once('e').unwrap_or((&s, "0"));
+        let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+        return format!("{mantissa}e{exponent}");
     }
     let digits = (3 - x.abs().log10().floor() as i32).clamp(0, 15) as usize;
     let s = format!("{x:.digits$}");
@@ -376,8 +379,8 @@ fn material_value(key: &str, raw: &RawMaterialValue) -> Result<Complex64> {
             ),
             format!(
                 "for a lossy material give a positive imaginary part, e.g. [{}, {}] (loss tangent {})",
-                fmt_num(z.re),
-                fmt_num(-z.im),
+                z.re,
+                -z.im,
                 fmt_num((-z.im / z.re).abs())
             ),
         ));

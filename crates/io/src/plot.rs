@@ -1,1 +1,0 @@
-//! PNG plots (todo).
