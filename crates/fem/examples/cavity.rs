@@ -20,20 +20,8 @@ const RADIUS: f64 = 12e-3;
 const HEIGHT: f64 = 20e-3;
 const EPS_FILL: f64 = 2.1;
 
-/// Zeros of J_m and J_m' (Abramowitz & Stegun, Table 9.5; values from memory,
-/// checked against scipy.special.jn_zeros / jnp_zeros).
-const BESSEL_ZEROS: [[f64; 2]; 3] = [
-    [2.404_825_557_695_773, 5.520_078_110_286_311],
-    [3.831_705_970_207_512, 7.015_586_669_815_619],
-    [5.135_622_301_840_683, 8.417_244_140_399_866],
-];
-const BESSEL_DERIVATIVE_ZEROS: [[f64; 2]; 3] = [
-    [3.831_705_970_207_512, 7.015_586_669_815_619],
-    [1.841_183_781_340_659, 5.331_442_773_525_033],
-    [3.054_236_928_227_140, 6.706_133_194_158_459],
-];
-
-/// Exact k0^2 of the lowest modes of order m: TM_mnp = (x_mn/a)^2 + (p pi/d)^2
+/// Exact k0^2 of the lowest modes of order m (Bessel zeros: A&S Table 9.5, in
+/// the test support module): TM_mnp = (x_mn/a)^2 + (p pi/d)^2
 /// for p >= 0, TE_mnp = (x'_mn/a)^2 + (p pi/d)^2 for p >= 1, divided by eps
 /// (Pozar, Microwave Engineering, sec. 6.3).
 fn exact_k0_squared(m: usize) -> Vec<f64> {
@@ -41,9 +29,9 @@ fn exact_k0_squared(m: usize) -> Vec<f64> {
     for p in 0..4 {
         let kz = p as f64 * std::f64::consts::PI / HEIGHT;
         for n in 0..2 {
-            out.push(((BESSEL_ZEROS[m][n] / RADIUS).powi(2) + kz * kz) / EPS_FILL);
+            out.push(((support::J_ZEROS[m][n] / RADIUS).powi(2) + kz * kz) / EPS_FILL);
             if p >= 1 {
-                out.push(((BESSEL_DERIVATIVE_ZEROS[m][n] / RADIUS).powi(2) + kz * kz) / EPS_FILL);
+                out.push(((support::JP_ZEROS[m][n] / RADIUS).powi(2) + kz * kz) / EPS_FILL);
             }
         }
     }

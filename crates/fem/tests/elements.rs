@@ -5,10 +5,7 @@ mod support;
 use twistmode_fem::coordinates::EquivalentMedium;
 use twistmode_fem::geometry::ElementGeometry;
 use twistmode_fem::tensor::scalar3;
-use twistmode_fem::{
-    c64, element_matrices, Material, MaterialTable, Order, Placement, PmlStretch, SectionProblem,
-    SectionSetup, TriangleRule, Wall,
-};
+use twistmode_fem::{c64, element_matrices, Order, Placement, SectionProblem, TriangleRule};
 use twistmode_mesh::GeometryOrder;
 
 fn identity_medium(_: f64, _: f64) -> Option<EquivalentMedium> {
@@ -61,21 +58,7 @@ fn closed_problem(
     order: Order,
     placement: Placement,
 ) -> SectionProblem<'_> {
-    SectionProblem::try_new(
-        mesh,
-        SectionSetup {
-            order,
-            placement,
-            pml: PmlStretch::None,
-            materials: MaterialTable::single(
-                support::FILL,
-                Material::with_index(1.5),
-                Material::vacuum(),
-            ),
-            walls: vec![("wall".into(), Wall::ElectricConductor)],
-        },
-    )
-    .unwrap()
+    SectionProblem::try_new(mesh, support::metal_setup(order, placement, 2.25)).unwrap()
 }
 
 /// `||K g|| / (||K|| ||g||)` for the gradient `g` of a pseudo-random scalar.

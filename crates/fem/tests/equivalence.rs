@@ -3,24 +3,8 @@
 //! untwisted one seen in a turning frame.
 mod support;
 
-use twistmode_fem::{
-    Material, MaterialTable, Order, Placement, PmlStretch, SectionProblem, SectionSetup, Wall,
-};
+use twistmode_fem::{Order, Placement, SectionProblem, SectionSetup};
 use twistmode_mesh::{GeometryOrder, Mesh};
-
-fn setup(order: Order, placement: Placement) -> SectionSetup {
-    SectionSetup {
-        order,
-        placement,
-        pml: PmlStretch::None,
-        materials: MaterialTable::single(
-            support::FILL,
-            Material::with_index(1.8),
-            Material::vacuum(),
-        ),
-        walls: vec![("wall".into(), Wall::ElectricConductor)],
-    }
-}
 
 fn physical_eigenvalues(mesh: &Mesh, setup: SectionSetup, m: f64, scale: f64) -> Vec<f64> {
     let problem = SectionProblem::try_new(mesh, setup).unwrap();
@@ -53,17 +37,23 @@ fn untwisted_ring_equals_revolution_with_the_section_at_distance_r() {
     for m in [0.0, 3.0] {
         let ring = physical_eigenvalues(
             &ring_mesh,
-            setup(
+            support::metal_setup(
                 Order::Two,
                 Placement::Ring {
                     radius,
                     half_turns: 0.0,
                 },
+                1.8 * 1.8,
             ),
             m,
             1e5,
         );
-        let rev = physical_eigenvalues(&rev_mesh, setup(Order::Two, Placement::Revolution), m, 1e5);
+        let rev = physical_eigenvalues(
+            &rev_mesh,
+            support::metal_setup(Order::Two, Placement::Revolution, 1.8 * 1.8),
+            m,
+            1e5,
+        );
         assert_eq!(ring.len(), rev.len());
         let worst = ring
             .iter()
@@ -87,10 +77,10 @@ fn twisted_circular_metal_guide_shifts_beta_by_the_angular_order() {
     let (a, eps) = (5e-3, 1.8f64 * 1.8);
     let mesh = support::disc(a, 6, GeometryOrder::Quadratic);
     let (alpha, beta) = (120.0, 400.0);
-    let te11 = (1.841_183_781_340_659 / a).powi(2);
-    let tm01 = (2.404_825_557_695_773 / a).powi(2);
+    let te11 = (support::JP_ZEROS[1][0] / a).powi(2);
+    let tm01 = (support::J_ZEROS[0][0] / a).powi(2);
     // TE_21 (nu = +-2, k_c a = j'_21 = 3.054236928227140) also enters the window.
-    let te21 = (3.054_236_928_227_140 / a).powi(2);
+    let te21 = (support::JP_ZEROS[2][0] / a).powi(2);
     let mut exact = vec![
         (te11 + (beta - alpha) * (beta - alpha)) / eps,
         (te11 + (beta + alpha) * (beta + alpha)) / eps,
@@ -100,13 +90,13 @@ fn twisted_circular_metal_guide_shifts_beta_by_the_angular_order() {
     exact.sort_by(f64::total_cmp);
     let computed = physical_eigenvalues(
         &mesh,
-        setup(Order::Two, Placement::Straight { twist_rate: alpha }),
+        support::metal_setup(Order::Two, Placement::Straight { twist_rate: alpha }, eps),
         beta,
         exact[0],
     );
     let untwisted = physical_eigenvalues(
         &mesh,
-        setup(Order::Two, Placement::Straight { twist_rate: 0.0 }),
+        support::metal_setup(Order::Two, Placement::Straight { twist_rate: 0.0 }, eps),
         beta,
         exact[0],
     );

@@ -1,26 +1,10 @@
 //! Validation against exact answers for metal waveguides and cavities.
 mod support;
 
-use twistmode_fem::{
-    Material, MaterialTable, Order, Placement, PmlStretch, SectionProblem, SectionSetup, Wall,
-};
+use twistmode_fem::{Order, Placement, SectionProblem, SectionSetup};
 use twistmode_mesh::{boundary_names, GeometryOrder, Mesh};
 
 use std::f64::consts::PI;
-
-fn metal_setup(order: Order, placement: Placement, eps: f64) -> SectionSetup {
-    SectionSetup {
-        order,
-        placement,
-        pml: PmlStretch::None,
-        materials: MaterialTable::single(
-            support::FILL,
-            Material::with_index(eps.sqrt()),
-            Material::vacuum(),
-        ),
-        walls: vec![("wall".into(), Wall::ElectricConductor)],
-    }
-}
 
 /// Solves densely; checks the static count against the reported gradient
 /// space and that nothing sits between 0 and the first physical eigenvalue;
@@ -95,7 +79,7 @@ fn rectangular_metal_waveguide_converges_at_the_expected_rates() {
                 .iter()
                 .map(|&n| {
                     let mesh = guide_mesh(n, GeometryOrder::Linear);
-                    let setup = metal_setup(order, placement, 1.0);
+                    let setup = support::metal_setup(order, placement, 1.0);
                     let computed = lowest(&mesh, setup, beta, exact[0], modes);
                     max_relative_error(&computed, &exact)
                 })
@@ -120,19 +104,6 @@ const CAN_RADIUS: f64 = 12e-3;
 const CAN_HEIGHT: f64 = 20e-3;
 const CAN_EPS: f64 = 2.1;
 
-/// Zeros x_mn of J_m and x'_mn of J_m' for m = 0, 1, 2 (Abramowitz & Stegun,
-/// Table 9.5; from memory, checked with scipy.special.jn_zeros/jnp_zeros).
-const J_ZEROS: [[f64; 2]; 3] = [
-    [2.404_825_557_695_773, 5.520_078_110_286_311],
-    [3.831_705_970_207_512, 7.015_586_669_815_619],
-    [5.135_622_301_840_683, 8.417_244_140_399_866],
-];
-const JP_ZEROS: [[f64; 2]; 3] = [
-    [3.831_705_970_207_512, 7.015_586_669_815_619],
-    [1.841_183_781_340_659, 5.331_442_773_525_033],
-    [3.054_236_928_227_140, 6.706_133_194_158_459],
-];
-
 /// Lowest k0^2 of azimuthal order m of the filled can: TM_mnp (p >= 0) and
 /// TE_mnp (p >= 1), k^2 = (x/a)^2 + (p pi/d)^2, k0^2 = k^2 / eps
 /// (Pozar, Microwave Engineering, sec. 6.3).
@@ -141,9 +112,9 @@ fn can_exact(m: usize, count: usize) -> Vec<f64> {
     for p in 0..5 {
         let kz2 = (p as f64 * PI / CAN_HEIGHT).powi(2);
         for n in 0..2 {
-            out.push(((J_ZEROS[m][n] / CAN_RADIUS).powi(2) + kz2) / CAN_EPS);
+            out.push(((support::J_ZEROS[m][n] / CAN_RADIUS).powi(2) + kz2) / CAN_EPS);
             if p > 0 {
-                out.push(((JP_ZEROS[m][n] / CAN_RADIUS).powi(2) + kz2) / CAN_EPS);
+                out.push(((support::JP_ZEROS[m][n] / CAN_RADIUS).powi(2) + kz2) / CAN_EPS);
             }
         }
     }
@@ -179,7 +150,7 @@ fn circular_cylinder_cavity_as_a_body_of_revolution() {
                 .iter()
                 .map(|&n| {
                     let mesh = can_mesh(n, GeometryOrder::Linear);
-                    let setup = metal_setup(order, Placement::Revolution, CAN_EPS);
+                    let setup = support::metal_setup(order, Placement::Revolution, CAN_EPS);
                     let computed = lowest(&mesh, setup, m as f64, exact[0], modes);
                     max_relative_error(&computed, &exact)
                 })

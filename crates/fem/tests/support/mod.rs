@@ -4,7 +4,9 @@
 use faer::linalg::triangular_solve::solve_lower_triangular_in_place;
 use faer::sparse::SparseColMat;
 use faer::{Mat, Par, Side};
-use twistmode_fem::c64;
+use twistmode_fem::{
+    c64, Material, MaterialTable, Order, Placement, PmlStretch, SectionSetup, Wall,
+};
 use twistmode_mesh::{
     BoundaryTag, GeometryOrder, Mesh, MeshParts, NodeId, Region, RegionKind, Triangle,
 };
@@ -192,3 +194,34 @@ pub fn split_static(eigs: &[f64], scale: f64) -> (usize, Vec<f64>) {
 pub fn rate(e0: f64, e1: f64, h0: f64, h1: f64) -> f64 {
     (e0 / e1).ln() / (h0 / h1).ln()
 }
+
+/// Setup of a metal box (boundary tag `wall` a perfect electric conductor)
+/// filled with relative permittivity `eps`.
+pub fn metal_setup(order: Order, placement: Placement, eps: f64) -> SectionSetup {
+    SectionSetup {
+        order,
+        placement,
+        pml: PmlStretch::None,
+        materials: MaterialTable::single(
+            FILL,
+            Material::with_index(eps.sqrt()),
+            Material::vacuum(),
+        ),
+        walls: vec![("wall".into(), Wall::ElectricConductor)],
+    }
+}
+
+/// Zeros x_mn of J_m (n = 1, 2) for m = 0, 1, 2 (Abramowitz & Stegun, Table 9.5;
+/// from memory, checked with scipy.special.jn_zeros).
+pub const J_ZEROS: [[f64; 2]; 3] = [
+    [2.404_825_557_695_773, 5.520_078_110_286_311],
+    [3.831_705_970_207_512, 7.015_586_669_815_619],
+    [5.135_622_301_840_683, 8.417_244_140_399_866],
+];
+/// Zeros x'_mn of J_m' (n = 1, 2) for m = 0, 1, 2 (A&S Table 9.5; from memory,
+/// checked with scipy.special.jnp_zeros).
+pub const JP_ZEROS: [[f64; 2]; 3] = [
+    [3.831_705_970_207_512, 7.015_586_669_815_619],
+    [1.841_183_781_340_659, 5.331_442_773_525_033],
+    [3.054_236_928_227_14, 6.706_133_194_158_459],
+];
