@@ -225,3 +225,35 @@ pub const JP_ZEROS: [[f64; 2]; 3] = [
     [1.841_183_781_340_659, 5.331_442_773_525_033],
     [3.054_236_928_227_14, 6.706_133_194_158_459],
 ];
+
+/// Eigenvector of the pencil `(K, M)` nearest `sigma` by inverse iteration
+/// with a dense LU of `K - sigma M`; returns the vector and its Rayleigh quotient.
+pub fn eigenvector_near(
+    k: &SparseColMat<usize, c64>,
+    m: &SparseColMat<usize, c64>,
+    sigma: f64,
+) -> (Vec<c64>, c64) {
+    use faer::linalg::solvers::Solve;
+    let kd: Mat<c64> = k.to_dense();
+    let md: Mat<c64> = m.to_dense();
+    let n = kd.nrows();
+    let shifted = Mat::<c64>::from_fn(n, n, |i, j| {
+        *kd.as_ref().get(i, j) - *md.as_ref().get(i, j) * sigma
+    });
+    let lu = shifted.partial_piv_lu();
+    let mut x = Mat::<c64>::from_fn(n, 1, |i, _| c64::new(1.0 + (i % 7) as f64, 0.5));
+    for _ in 0..8 {
+        let y = lu.solve(&md * &x);
+        let norm = y.norm_l2();
+        x = Mat::from_fn(n, 1, |i, _| *y.as_ref().get(i, 0) / norm);
+    }
+    let kx = &kd * &x;
+    let mx = &md * &x;
+    let num: c64 = (0..n)
+        .map(|i| x.as_ref().get(i, 0).conj() * kx.as_ref().get(i, 0))
+        .sum();
+    let den: c64 = (0..n)
+        .map(|i| x.as_ref().get(i, 0).conj() * mx.as_ref().get(i, 0))
+        .sum();
+    ((0..n).map(|i| *x.as_ref().get(i, 0)).collect(), num / den)
+}
