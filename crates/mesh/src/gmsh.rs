@@ -15,7 +15,7 @@
 //! not on the boundary (interfaces) are ignored.
 //!
 //! Export: MSH 4.1 ASCII with one surface entity and physical group per
-//! region, one curve entity and physical group per boundary tag, triangle
+//! region (a body's group is named after its material), one curve entity and physical group per boundary tag, triangle
 //! blocks in mesh order. Writes go to a temporary file in the target folder,
 //! then are renamed over the target.
 
@@ -574,7 +574,13 @@ pub fn write_gmsh_string(mesh: &Mesh) -> String {
         let _ = writeln!(s, "1 {} \"{}\"", i + 1, name.replace('"', "'"));
     }
     for (i, r) in mesh.regions().iter().enumerate() {
-        let _ = writeln!(s, "2 {} \"{}\"", i + 1, r.name.replace('"', "'"));
+        // A body's group is named after its material, so that reading the
+        // file back gives the same material.
+        let name = match &r.kind {
+            RegionKind::Body { material } => material,
+            _ => &r.name,
+        };
+        let _ = writeln!(s, "2 {} \"{}\"", i + 1, name.replace('"', "'"));
     }
     let _ = writeln!(s, "$EndPhysicalNames");
     // Entities: bounding boxes are not needed by readers; write the mesh box.
