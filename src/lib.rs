@@ -1,9 +1,18 @@
 //! twistmode: resonant modes of dielectric resonators from a 2D vector
 //! finite-element model of their cross-section.
 //!
-//! This facade re-exports the workspace crates; the `twistmode` binary is a
-//! thin layer on top of them.
+//! This facade re-exports the workspace crates and holds the solve pipeline
+//! ([`solve`]), result files ([`report`]) and pictures ([`pictures`]) that
+//! the `twistmode` binary drives.
 #![deny(missing_docs)]
 
+pub mod pictures;
+pub mod report;
+pub mod solve;
+
+pub use twistmode_analysis as analysis;
+pub use twistmode_eigen as eigen;
+pub use twistmode_fem as fem;
 pub use twistmode_io as io;
 pub use twistmode_mesh as mesh;
+pub use twistmode_reference as reference;

@@ -54,28 +54,61 @@ pub fn classify_polarisation(
     }
 }
 
-/// Counts the local maxima of `samples` (e.g. |E|^2 along a line across the
-/// section) that rise above `rel_threshold` times the largest sample. A
-/// plateau counts once; the ends count when they exceed their one neighbour.
-pub fn count_maxima(samples: &[f64], rel_threshold: f64) -> usize {
+/// Counts the maxima of `samples` (e.g. |E|^2 along a line across the
+/// section) whose topographic prominence is at least `rel_prominence` times
+/// the largest sample: the height a peak rises above the higher of the two
+/// lowest points separating it from higher ground (or from the ends, beyond
+/// which the samples are taken as 0). Prominence, not mere local maximality,
+/// keeps the small steps of a piecewise finite-element field from counting
+/// as extra maxima. A plateau counts once.
+pub fn count_maxima(samples: &[f64], rel_prominence: f64) -> usize {
     let peak = samples.iter().cloned().fold(0.0, f64::max);
     if peak.is_nan() || peak <= 0.0 {
         return 0;
     }
-    let floor = rel_threshold * peak;
+    let floor = rel_prominence * peak;
     let n = samples.len();
     let mut count = 0;
     let mut i = 0;
     while i < n {
-        // extent of the plateau starting at i
         let mut j = i;
         while j + 1 < n && samples[j + 1] == samples[i] {
             j += 1;
         }
-        let left_lower = i == 0 || samples[i - 1] < samples[i];
-        let right_lower = j + 1 == n || samples[j + 1] < samples[i];
-        if left_lower && right_lower && samples[i] >= floor && n > 1 {
-            count += 1;
+        let h = samples[i];
+        let left_lower = i == 0 || samples[i - 1] < h;
+        let right_lower = j + 1 == n || samples[j + 1] < h;
+        if left_lower && right_lower && h > 0.0 {
+            // Lowest point on each side before higher ground (0 past the ends).
+            let mut left_min = h;
+            let mut k = i;
+            loop {
+                if k == 0 {
+                    left_min = 0.0;
+                    break;
+                }
+                k -= 1;
+                if samples[k] > h {
+                    break;
+                }
+                left_min = left_min.min(samples[k]);
+            }
+            let mut right_min = h;
+            let mut k = j;
+            loop {
+                if k + 1 == n {
+                    right_min = 0.0;
+                    break;
+                }
+                k += 1;
+                if samples[k] > h {
+                    break;
+                }
+                right_min = right_min.min(samples[k]);
+            }
+            if h - left_min.max(right_min) >= floor {
+                count += 1;
+            }
         }
         i = j + 1;
     }
@@ -99,10 +132,16 @@ mod tests {
             assert_eq!(count_maxima(&s, 0.1), p);
         }
         assert_eq!(count_maxima(&[0.0; 10], 0.1), 0);
-        // A small ripple below the threshold is ignored.
+        // A ripple of prominence 0.05 counts only below that threshold.
         let s = [0.0, 1.0, 0.5, 0.55, 0.5, 0.0];
-        assert_eq!(count_maxima(&s, 0.6), 1);
-        assert_eq!(count_maxima(&s, 0.1), 2);
+        assert_eq!(count_maxima(&s, 0.1), 1);
+        assert_eq!(count_maxima(&s, 0.01), 2);
+        // A staircase (piecewise field with small jumps) has one maximum.
+        let s = [0.1, 0.3, 0.29, 0.6, 0.58, 1.0, 0.97, 0.5, 0.2];
+        assert_eq!(count_maxima(&s, 0.1), 1);
+        // Two equal humps separated by a deep valley.
+        let s = [0.2, 1.0, 0.1, 1.0, 0.2];
+        assert_eq!(count_maxima(&s, 0.5), 2);
     }
 
     #[test]

@@ -332,11 +332,13 @@ fn text_style(size: f64) -> TextStyle<'static> {
 
 /// Sets up the canvas: title band, chart with equal aspect, side panel.
 /// Calls `draw` with the chart and the side panel, then encodes and writes the PNG.
+#[allow(clippy::too_many_arguments)]
 fn render(
     path: &Path,
     mesh: &Mesh,
     unit: LengthUnit,
     title: &str,
+    view: Option<[f64; 4]>,
     draw: impl FnOnce(
         &mut Chart<'_, '_>,
         &DrawingArea<BitMapBackend<'_>, Shift>,
@@ -345,7 +347,11 @@ fn render(
 ) -> Result<PlotFrame, PlotError> {
     register_font()?;
     let geometry = Geometry::new(mesh, unit);
-    let (height, ranges) = frame(geometry.bounds());
+    let bounds = match view {
+        Some(v) => v.map(|x| x * geometry.scale),
+        None => geometry.bounds(),
+    };
+    let (height, ranges) = frame(bounds);
     let mut buffer = vec![255u8; (WIDTH * height * 3) as usize];
     let units_per_px;
     {
@@ -459,7 +465,7 @@ pub fn plot_mesh(
     unit: LengthUnit,
 ) -> Result<PlotFrame, PlotError> {
     let fills = region_colours(mesh);
-    render(path, mesh, unit, title, |chart, side, g| {
+    render(path, mesh, unit, title, None, |chart, side, g| {
         chart
             .draw_series((0..mesh.triangles().len()).map(|t| {
                 let c = rgb(fills[mesh.triangles()[t].region.idx()]);
@@ -575,6 +581,21 @@ pub fn plot_section_field(
     colormap: Colormap,
     unit: LengthUnit,
 ) -> Result<PlotFrame, PlotError> {
+    plot_section_field_in(mesh, values, path, title, colormap, unit, None)
+}
+
+/// As [`plot_section_field`], showing only the window `view` =
+/// `[u_min, u_max, v_min, v_max]` (metres) when given; the colour scale then
+/// spans the values of the triangles inside the window.
+pub fn plot_section_field_in(
+    mesh: &Mesh,
+    values: FieldValues<'_>,
+    path: &Path,
+    title: &str,
+    colormap: Colormap,
+    unit: LengthUnit,
+    view: Option<[f64; 4]>,
+) -> Result<PlotFrame, PlotError> {
     let (data, want, what) = match values {
         FieldValues::PerNode(v) => (v, mesh.points().len(), "nodes"),
         FieldValues::PerTriangle(v) => (v, mesh.triangles().len(), "triangles"),
@@ -586,7 +607,25 @@ pub fn plot_section_field(
             what,
         });
     }
-    let finite = data.iter().copied().filter(|v| v.is_finite());
+    let inside = |p: [f64; 2]| match view {
+        Some(v) => p[0] >= v[0] && p[0] <= v[1] && p[1] >= v[2] && p[1] <= v[3],
+        None => true,
+    };
+    let visible: Vec<f64> = match values {
+        FieldValues::PerNode(v) => v
+            .iter()
+            .zip(mesh.points())
+            .filter(|(_, p)| inside(**p))
+            .map(|(x, _)| *x)
+            .collect(),
+        FieldValues::PerTriangle(v) => v
+            .iter()
+            .zip(mesh.triangles())
+            .filter(|(_, t)| inside(mesh.points()[t.nodes[0].idx()]))
+            .map(|(x, _)| *x)
+            .collect(),
+    };
+    let finite = visible.iter().copied().filter(|v| v.is_finite());
     let lo = finite.clone().fold(f64::INFINITY, f64::min);
     let hi = finite.fold(f64::NEG_INFINITY, f64::max);
     if !lo.is_finite() {
@@ -599,12 +638,17 @@ pub fn plot_section_field(
     };
     let colour = |v: f64| -> RGBColor {
         if v.is_finite() {
-            rgb(colormap.rgb((v - lo) / (hi - lo)))
+            rgb(colormap.rgb(((v - lo) / (hi - lo)).clamp(0.0, 1.0)))
         } else {
             RGBColor(0x99, 0x99, 0x99)
         }
     };
-    render(path, mesh, unit, title, |chart, side, g| {
+    render(path, mesh, unit, title, view, |chart, side, g| {
+        let (xs, ys) = (chart.x_range(), chart.y_range());
+        let shown = |pts: &[(f64, f64)]| {
+            pts.iter()
+                .all(|p| p.0 >= xs.start && p.0 <= xs.end && p.1 >= ys.start && p.1 <= ys.end)
+        };
         let units_per_px = {
             let (xr, _) = chart.plotting_area().get_pixel_range();
             let x = chart.x_range();
@@ -614,6 +658,9 @@ pub fn plot_section_field(
         // the one-pixel seams that separate fills of adjacent polygons.
         let mut polys: Vec<(Vec<(f64, f64)>, RGBColor)> = Vec::new();
         for t in 0..mesh.triangles().len() {
+            if view.is_some() && !shown(&g.outline(t)) {
+                continue;
+            }
             match values {
                 FieldValues::PerTriangle(v) => polys.push((g.outline(t), colour(v[t]))),
                 FieldValues::PerNode(v) => {

@@ -1,0 +1,74 @@
+//! Every flag and subcommand of the `twistmode` binary.
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand};
+
+/// Resonant modes of dielectric resonators from a 2D vector finite-element
+/// model of their cross-section.
+#[derive(Debug, Parser)]
+#[command(name = "twistmode", version, about, long_about = None)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// Subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Mesh a case's cross-section; write the mesh (Gmsh MSH) and a PNG preview.
+    Mesh(CaseArgs),
+    /// Find the resonances of a case near its target frequency.
+    Solve(SolveArgs),
+    /// Solve the built-in demo case (a ceramic ribbon ring) and write all outputs.
+    Demo(DemoArgs),
+}
+
+/// A case file with overrides and an output folder.
+#[derive(Debug, Args)]
+pub struct CaseArgs {
+    /// The case file (TOML).
+    pub case: PathBuf,
+    /// Override a case key, e.g. `--set search.m=12` (repeatable).
+    #[arg(long = "set", value_name = "PATH=VALUE")]
+    pub set: Vec<String>,
+    /// Folder for the results (created if missing).
+    #[arg(long, value_name = "DIR", default_value = "twistmode-out")]
+    pub out: PathBuf,
+}
+
+/// Options of `solve`.
+#[derive(Debug, Args)]
+pub struct SolveArgs {
+    /// Case, overrides, output folder.
+    #[command(flatten)]
+    pub case: CaseArgs,
+    /// Print the result JSON to standard output instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Keep PML and box modes instead of dropping them.
+    #[arg(long)]
+    pub all: bool,
+    /// Residual tolerance for accepting an eigenpair.
+    #[arg(long, default_value_t = 1e-8)]
+    pub tolerance: f64,
+    /// Do not draw field maps.
+    #[arg(long)]
+    pub no_plots: bool,
+}
+
+/// Options of `demo`.
+#[derive(Debug, Args)]
+pub struct DemoArgs {
+    /// Folder for the results (created if missing).
+    #[arg(long, value_name = "DIR", default_value = "twistmode-demo")]
+    pub out: PathBuf,
+    /// Override a demo case key (repeatable).
+    #[arg(long = "set", value_name = "PATH=VALUE")]
+    pub set: Vec<String>,
+}
+
+/// Parses the command line.
+pub fn parse() -> Cli {
+    Cli::parse()
+}

@@ -1,0 +1,142 @@
+//! One function per subcommand; each returns `anyhow::Result` for the binary.
+use std::path::Path;
+
+use anyhow::{Context, Result};
+use twistmode::report::{modes_table, write_tables, ResultsDocument};
+use twistmode::solve::{solve_case, SolveOutcome, SolveSettings};
+use twistmode_io::case::{parse_set_argument, Body, Case};
+
+use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs};
+
+/// The built-in demo case (a scenario of our own).
+const DEMO_CASE: &str = include_str!("../../examples/demo_ribbon_ring.toml");
+
+/// Runs a parsed command line.
+pub fn run(cli: Cli) -> Result<()> {
+    match cli.command {
+        Command::Mesh(args) => mesh(&args),
+        Command::Solve(args) => solve(&args),
+        Command::Demo(args) => demo(&args),
+    }
+}
+
+fn overrides(set: &[String]) -> Result<Vec<(String, String)>> {
+    set.iter()
+        .map(|s| parse_set_argument(s).map_err(anyhow::Error::from))
+        .collect()
+}
+
+fn load(args: &CaseArgs) -> Result<Case> {
+    let ov = overrides(&args.set)?;
+    Ok(Case::load(&args.case, &ov)?)
+}
+
+fn make_dir(dir: &Path) -> Result<()> {
+    std::fs::create_dir_all(dir).with_context(|| format!("cannot create folder {}", dir.display()))
+}
+
+fn mesh(args: &CaseArgs) -> Result<()> {
+    let case = load(args)?;
+    make_dir(&args.out)?;
+    let (mesh, facts) = twistmode::solve::build_mesh(&case)?;
+    let q = mesh.quality();
+    println!("mesh: {q}");
+    println!("made in {:.3} s", facts.seconds);
+    let msh = args.out.join("mesh.msh");
+    twistmode_mesh::write_gmsh(&mesh, &msh)?;
+    println!("wrote {}", msh.display());
+    let png = args.out.join("mesh.png");
+    twistmode::pictures::mesh_preview(&mesh, &case, &png)?;
+    println!("wrote {}", png.display());
+    Ok(())
+}
+
+fn body_words(case: &Case) -> String {
+    match case.body {
+        Body::Revolution => "body of revolution".into(),
+        Body::Ring { radius, half_turns } => {
+            format!("ring, radius {radius:e} m, {half_turns} half turns")
+        }
+        Body::Straight { twist_rate } => format!("straight guide, twist rate {twist_rate} rad/m"),
+    }
+}
+
+fn solve_and_write(
+    case: &Case,
+    case_file: Option<&Path>,
+    out: &Path,
+    settings: &SolveSettings,
+    json_to_stdout: bool,
+    plots: bool,
+) -> Result<()> {
+    make_dir(out)?;
+    eprintln!("solving: {}", body_words(case));
+    let outcome: SolveOutcome = solve_case(case, settings)?;
+    let doc = ResultsDocument::new(&outcome, case_file, body_words(case));
+    let mut written = write_tables(&doc, out)?;
+    let msh = out.join("mesh.msh");
+    twistmode_mesh::write_gmsh(&outcome.mesh, &msh)?;
+    written.push(msh);
+    if plots {
+        written.extend(twistmode::pictures::write_pictures(&outcome, case, out)?);
+    }
+    if json_to_stdout {
+        println!("{}", serde_json::to_string_pretty(&doc)?);
+    } else {
+        let s = &outcome.solver;
+        println!(
+            "mesh: {} triangles (order {}), {} unknowns ({} removed by walls/axis), fill nnz(L+U) {}",
+            outcome.mesh_facts.triangles,
+            outcome.mesh_facts.order,
+            s.dofs,
+            s.dofs_constrained,
+            s.fill_nnz
+        );
+        println!(
+            "solver: {}; static pairs set aside {}, PML modes dropped {}, box modes dropped {}",
+            s.status, s.static_dropped, s.pml_dropped, s.box_dropped
+        );
+        println!(
+            "time: mesh {:.2} s, assembly {:.2} s, factorisation {:.2} s, iterations {:.2} s",
+            outcome.mesh_facts.seconds, s.assembly_seconds, s.factor_seconds, s.iteration_seconds
+        );
+        println!();
+        print!("{}", modes_table(&outcome.modes).to_text());
+        println!();
+        for p in &written {
+            println!("wrote {}", p.display());
+        }
+    }
+    Ok(())
+}
+
+fn solve(args: &SolveArgs) -> Result<()> {
+    let case = load(&args.case)?;
+    let settings = SolveSettings {
+        tolerance: args.tolerance,
+        keep_all: args.all,
+        ..SolveSettings::default()
+    };
+    solve_and_write(
+        &case,
+        Some(&args.case.case),
+        &args.case.out,
+        &settings,
+        args.json,
+        !args.no_plots,
+    )
+}
+
+fn demo(args: &DemoArgs) -> Result<()> {
+    let ov = overrides(&args.set)?;
+    let case = Case::from_toml_str(DEMO_CASE, &ov)?;
+    println!("twistmode demo: a ceramic ribbon ring (see examples/demo_ribbon_ring.toml)");
+    solve_and_write(
+        &case,
+        None,
+        &args.out,
+        &SolveSettings::default(),
+        false,
+        true,
+    )
+}
