@@ -22,6 +22,22 @@ pub enum Command {
     Solve(SolveArgs),
     /// Solve the built-in demo case (a ceramic ribbon ring) and write all outputs.
     Demo(DemoArgs),
+    /// Compare the solver with exact answers (metal cavities, Mie sphere, fibre).
+    Validate(ValidateArgs),
+}
+
+/// Options of `validate`.
+#[derive(Debug, Args)]
+pub struct ValidateArgs {
+    /// Refined meshes (minutes) instead of the quick set (seconds).
+    #[arg(long)]
+    pub full: bool,
+    /// Run only these groups (cavity, sphere, fibre); repeatable.
+    #[arg(long, value_name = "GROUP")]
+    pub only: Vec<String>,
+    /// Folder for validation.json and validation.csv.
+    #[arg(long, value_name = "DIR", default_value = "twistmode-validation")]
+    pub out: PathBuf,
 }
 
 /// A case file with overrides and an output folder.

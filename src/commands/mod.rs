@@ -6,7 +6,7 @@ use twistmode::report::{modes_table, write_tables, ResultsDocument};
 use twistmode::solve::{solve_case, SolveOutcome, SolveSettings};
 use twistmode_io::case::{parse_set_argument, Body, Case};
 
-use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs};
+use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs, ValidateArgs};
 
 /// The built-in demo case (a scenario of our own).
 const DEMO_CASE: &str = include_str!("../../examples/demo_ribbon_ring.toml");
@@ -17,6 +17,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Mesh(args) => mesh(&args),
         Command::Solve(args) => solve(&args),
         Command::Demo(args) => demo(&args),
+        Command::Validate(args) => validate(&args),
     }
 }
 
@@ -139,4 +140,70 @@ fn demo(args: &DemoArgs) -> Result<()> {
         false,
         true,
     )
+}
+
+type ValidationGroup = (
+    &'static str,
+    fn(
+        twistmode::validate::Level,
+    ) -> Result<Vec<twistmode::validate::Check>, twistmode::solve::SolveError>,
+);
+
+fn validate(args: &ValidateArgs) -> Result<()> {
+    use twistmode::validate::{cavity, fibre, sphere, Level};
+    let level = if args.full { Level::Full } else { Level::Quick };
+    let groups: [ValidationGroup; 3] = [
+        ("cavity", cavity::run),
+        ("sphere", sphere::run),
+        ("fibre", fibre::run),
+    ];
+    for name in &args.only {
+        if !groups.iter().any(|(g, _)| g == name) {
+            anyhow::bail!("--only {name}: unknown group; use cavity, sphere or fibre");
+        }
+    }
+    make_dir(&args.out)?;
+    let mut checks = Vec::new();
+    for (name, run) in groups {
+        if !args.only.is_empty() && !args.only.iter().any(|o| o == name) {
+            continue;
+        }
+        eprintln!("validating: {name} ({level:?})");
+        checks.extend(run(level)?);
+    }
+    let mut table = twistmode_io::output::Table::new([
+        "problem",
+        "quantity",
+        "computed",
+        "exact",
+        "rel. error",
+        "tolerance",
+        "ok",
+        "unknowns",
+        "seconds",
+        "source",
+    ]);
+    for c in &checks {
+        table.try_push_row([
+            c.problem.clone(),
+            c.quantity.clone(),
+            format!("{:.12e}", c.computed),
+            format!("{:.12e}", c.exact),
+            format!("{:.2e}", c.rel_error),
+            format!("{:.0e}", c.tolerance),
+            if c.passed() { "yes" } else { "NO" }.to_string(),
+            c.dofs.to_string(),
+            format!("{:.2}", c.seconds),
+            c.source.clone(),
+        ])?;
+    }
+    print!("{}", table.to_text());
+    twistmode_io::output::write_json(&args.out.join("validation.json"), &checks)?;
+    table.write_csv(&args.out.join("validation.csv"))?;
+    let failed = checks.iter().filter(|c| !c.passed()).count();
+    println!("{} passed, {} failed", checks.len() - failed, failed);
+    if failed > 0 {
+        anyhow::bail!("{failed} validation checks outside tolerance");
+    }
+    Ok(())
 }
