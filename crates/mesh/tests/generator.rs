@@ -712,3 +712,38 @@ proptest! {
         }
     }
 }
+
+/// A section whose side lies on the axis only up to round-off (centre 5 mm,
+/// half width 5 mm: 0.005 - 0.005 may leave 1e-18) must mesh without slivers.
+/// Source: exact geometry (the rectangle [0, 10] x [-5, 5] mm has area 1e-4 m^2).
+#[test]
+fn section_touching_the_axis_up_to_round_off_has_no_slivers() {
+    use twistmode_mesh::{
+        BodySpec, DomainKind, GeneratorSpec, GeometryOrder, SectionShape, Surroundings,
+    };
+    for (w, c) in [(0.01, 0.005), (0.003, 0.0015), (0.007, 0.0035)] {
+        let spec = GeneratorSpec {
+            domain: DomainKind::HalfPlane,
+            body: BodySpec {
+                shape: SectionShape::Rectangle {
+                    width: w,
+                    thickness: 0.01,
+                    corner_radius: 0.0,
+                },
+                centre: [c, 0.0],
+                material: "fill".into(),
+                max_edge: 0.0013,
+            },
+            surroundings: Surroundings::None,
+            order: GeometryOrder::Quadratic,
+            pi_symmetric: false,
+            upper_half_only: false,
+            min_angle_deg: 28.0,
+        };
+        let mesh = twistmode_mesh::generate(&spec).unwrap();
+        let q = mesh.quality();
+        assert!(q.min_angle_deg > 20.0, "{q}");
+        assert!((mesh.area() - w * 0.01).abs() < 1e-12 * w * 0.01);
+        assert!(mesh.boundary_tag("axis").is_some());
+    }
+}

@@ -616,6 +616,7 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
                     id,
                     size: &line_size,
                     symmetric: id == LINE_CUT,
+                    extent,
                 },
             )?;
         }
