@@ -412,7 +412,12 @@ fn describe_modes(
             q_limit: settings.q_limit,
         });
         let f = frequency_hz(k0);
-        let q = quality_factor(k0);
+        // |Im k0| at round-off level (Q > 5e11): a lossless mode, Q infinite.
+        let q = if k0.im.abs() <= 1e-12 * k0.re.abs() {
+            f64::INFINITY
+        } else {
+            quality_factor(k0)
+        };
         let label = format!("{} u{} v{}", polarisation.short(), maxima_u, maxima_v);
         out.push((
             ModeReport {

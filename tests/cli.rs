@@ -1,0 +1,212 @@
+//! End-to-end tests of the `twistmode` binary in a temporary folder.
+use std::path::Path;
+use std::process::Command;
+
+fn twistmode(dir: &Path, args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_twistmode"))
+        .current_dir(dir)
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+fn is_png(path: &Path) -> bool {
+    std::fs::read(path)
+        .map(|b| b.starts_with(&[0x89, b'P', b'N', b'G', 0x0D, 0x0A, 0x1A, 0x0A]))
+        .unwrap_or(false)
+}
+
+/// A closed metal cylinder cavity, radius 10 mm, length 10 mm, as a body of
+/// revolution: the section [0, 10] x [-5, 5] mm touches the axis.
+const CYLINDER: &str = r#"
+[units]
+length = "mm"
+[body]
+kind = "revolution"
+[section]
+shape = "rectangle"
+width = 10.0
+thickness = 10.0
+centre = [5.0, 0.0]
+material = "fill"
+[materials.fill]
+epsilon = 1.0
+[surroundings]
+kind = "metal"
+[mesh]
+order = 2
+resolution = 16
+[search]
+m = 0
+near_frequency = "11 GHz"
+count = 1
+"#;
+
+#[test]
+fn solve_json_reproduces_the_tm010_cavity_resonance() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("cyl.toml"), CYLINDER).unwrap();
+    let out = twistmode(
+        dir.path(),
+        &["solve", "cyl.toml", "--json", "--no-plots", "--out", "res"],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(doc["schema"], "twistmode-modes/1");
+    let modes = doc["modes"].as_array().unwrap();
+    assert_eq!(modes.len(), 1);
+    let mode = &modes[0];
+    // Source: Pozar, Microwave Engineering, sec. 6.3: TM010 of a cylinder of
+    // radius a resonates at f = c x01 / (2 pi a), x01 = 2.404825557695773 the
+    // first zero of J0 (Abramowitz & Stegun table 9.5; value from memory).
+    let exact = 299_792_458.0 * 2.404825557695773 / (2.0 * std::f64::consts::PI * 0.01);
+    let f = mode["frequency_hz"][0].as_f64().unwrap();
+    assert!((f - exact).abs() / exact < 2e-5, "f = {f}, exact {exact}");
+    assert!(mode["q"].is_null(), "a lossless cavity has infinite Q");
+    assert!(mode["residual"].as_f64().unwrap() < 1e-8);
+    assert_eq!(mode["m"].as_f64(), Some(0.0));
+    assert!((mode["confinement"].as_f64().unwrap() - 1.0).abs() < 1e-9);
+    for name in ["modes.json", "modes.csv", "mesh.msh"] {
+        assert!(dir.path().join("res").join(name).is_file(), "{name}");
+    }
+    // The written mesh reads back.
+    let mesh = twistmode::mesh::read_gmsh(dir.path().join("res/mesh.msh")).unwrap();
+    assert!(mesh.triangles().len() > 10);
+}
+
+#[test]
+fn overrides_and_bad_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("cyl.toml"), CYLINDER).unwrap();
+    // A misspelt key is refused with the key named and a fix.
+    let out = twistmode(
+        dir.path(),
+        &[
+            "solve",
+            "cyl.toml",
+            "--set",
+            "section.widht=3",
+            "--out",
+            "res",
+        ],
+    );
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("section.widht") && err.contains("width"),
+        "{err}"
+    );
+    // A negative size is refused.
+    let out = twistmode(
+        dir.path(),
+        &[
+            "mesh",
+            "cyl.toml",
+            "--set",
+            "section.width=-1",
+            "--out",
+            "res",
+        ],
+    );
+    assert!(!out.status.success());
+    assert!(String::from_utf8_lossy(&out.stderr).contains("section.width"));
+    // --set m=1 finds TE111: f = c / (2 pi) sqrt((x'11 / a)^2 + (pi / d)^2),
+    // x'11 = 1.841183781340659 (Pozar sec. 6.3; A&S table 9.5, from memory).
+    let out = twistmode(
+        dir.path(),
+        &[
+            "solve",
+            "cyl.toml",
+            "--set",
+            "search.m=1",
+            "--set",
+            "search.near_frequency=\"14 GHz\"",
+            "--json",
+            "--no-plots",
+            "--out",
+            "res",
+        ],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let f = doc["modes"][0]["frequency_hz"][0].as_f64().unwrap();
+    let k = ((1.841183781340659f64 / 0.01).powi(2) + (std::f64::consts::PI / 0.01).powi(2)).sqrt();
+    let exact = 299_792_458.0 * k / (2.0 * std::f64::consts::PI);
+    assert!((f - exact).abs() / exact < 2e-5, "f = {f}, exact {exact}");
+}
+
+#[test]
+fn mesh_command_on_three_shapes() {
+    let dir = tempfile::tempdir().unwrap();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    for (i, case) in [
+        "examples/ceramic-ribbon-ring.toml",
+        "examples/glass-sphere.toml",
+        "examples/hexagonal-rod-guide.toml",
+    ]
+    .iter()
+    .enumerate()
+    {
+        let out_dir = format!("m{i}");
+        let out = twistmode(
+            dir.path(),
+            &["mesh", root.join(case).to_str().unwrap(), "--out", &out_dir],
+        );
+        assert!(
+            out.status.success(),
+            "{case}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let d = dir.path().join(&out_dir);
+        assert!(is_png(&d.join("mesh.png")), "{case}");
+        let mesh = twistmode::mesh::read_gmsh(d.join("mesh.msh")).unwrap();
+        assert!(mesh.quality().min_angle_deg > 15.0, "{case}");
+    }
+}
+
+#[test]
+fn demo_writes_table_json_and_pictures() {
+    let dir = tempfile::tempdir().unwrap();
+    // A coarser mesh than the built-in one keeps the test short.
+    let out = twistmode(
+        dir.path(),
+        &[
+            "demo",
+            "--out",
+            "d",
+            "--set",
+            "mesh.resolution=5",
+            "--set",
+            "search.count=2",
+        ],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("Re f (GHz)"), "{text}");
+    let d = dir.path().join("d");
+    let doc: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(d.join("modes.json")).unwrap()).unwrap();
+    let modes = doc["modes"].as_array().unwrap();
+    assert!(!modes.is_empty());
+    for m in modes {
+        // Near the 7 GHz target, confined in the ceramic, converged.
+        let f = m["frequency_hz"][0].as_f64().unwrap();
+        assert!(f > 5e9 && f < 10e9, "{f}");
+        assert!(m["residual"].as_f64().unwrap() < 1e-8);
+        assert!(m["confinement"].as_f64().unwrap() > 0.5);
+    }
+    assert!(is_png(&d.join("mesh.png")));
+    assert!(is_png(&d.join("mode_00_E2.png")));
+}
