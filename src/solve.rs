@@ -208,6 +208,36 @@ fn outer_index(case: &Case) -> f64 {
     }
 }
 
+/// A mesh read from a Gmsh file carries no PML geometry: when it has a PML
+/// region, take it as a radial shell about the origin (bodies of revolution)
+/// or about the body's centre (rings, guides), from the nearest and farthest
+/// PML vertex.
+fn imported_pml(case: &Case, mesh: &Mesh) -> Option<PmlGeometry> {
+    let centre = match case.body {
+        Body::Revolution => [0.0, 0.0],
+        _ => {
+            let b = body_box(mesh);
+            [0.5 * (b[0] + b[1]), 0.5 * (b[2] + b[3])]
+        }
+    };
+    let (mut inner, mut outer) = (f64::INFINITY, 0.0f64);
+    for t in mesh.triangles() {
+        if mesh.regions()[t.region.idx()].kind == RegionKind::Pml {
+            for n in t.vertices() {
+                let p = mesh.points()[n.idx()];
+                let d = (p[0] - centre[0]).hypot(p[1] - centre[1]);
+                inner = inner.min(d);
+                outer = outer.max(d);
+            }
+        }
+    }
+    (outer > inner).then_some(PmlGeometry::Radial {
+        centre,
+        inner,
+        outer,
+    })
+}
+
 /// The finite-element setup of a case on its mesh.
 pub fn set_up(case: &Case, mesh: &Mesh) -> Result<SectionSetup, SolveError> {
     let placement = match case.body {
@@ -232,7 +262,11 @@ pub fn set_up(case: &Case, mesh: &Mesh) -> Result<SectionSetup, SolveError> {
     };
     let k0 = case.search.k0();
     let n_out = outer_index(case);
-    let pml = match mesh.domain().map(|d| d.pml) {
+    let pml = match mesh
+        .domain()
+        .map(|d| d.pml)
+        .or_else(|| imported_pml(case, mesh))
+    {
         Some(geometry @ PmlGeometry::Radial { inner, outer, .. }) => PmlStretch::from_geometry(
             &geometry,
             PmlProfile::for_wavenumber(k0, n_out, outer - inner),
@@ -410,6 +444,7 @@ fn describe_modes(
             pml_start_from_axis: pml_start,
             confinement: energy.body_fraction,
             q_limit: settings.q_limit,
+            has_pml: !matches!(mesh.domain().map(|d| d.pml), None | Some(PmlGeometry::None)),
         });
         let f = frequency_hz(k0);
         // |Im k0| at round-off level (Q > 5e11): a lossless mode, Q infinite.

@@ -71,6 +71,8 @@ pub struct TrustInputs {
     pub confinement: f64,
     /// Largest Q the PML is trusted to resolve.
     pub q_limit: f64,
+    /// Whether the domain ends in a PML (else it is closed by walls).
+    pub has_pml: bool,
 }
 
 /// Runs every check and returns the flags that apply.
@@ -87,28 +89,23 @@ pub fn check(inputs: &TrustInputs) -> Vec<Flag> {
             residual: inputs.residual,
         });
     }
-    if inputs.k0_im > 0.0 && inputs.k0_im > 1e-12 * inputs.k0_re.abs() {
+    // Within the PML's resolution band |Im k0| < Re k0 / (2 q_limit) the sign
+    // of Im k0 is noise: such a mode is lossless as far as the PML can tell.
+    let band = inputs.k0_re.abs() / (2.0 * inputs.q_limit);
+    if inputs.has_pml && inputs.k0_im.abs() < band {
+        flags.push(Flag::QAbovePmlLimit {
+            limit: inputs.q_limit,
+        });
+    } else if inputs.k0_im > 0.0 && inputs.k0_im > 1e-12 * inputs.k0_re.abs() {
         flags.push(Flag::Growing);
     }
-    if let Some(start) = inputs.pml_start_from_axis {
-        let q = if inputs.k0_im == 0.0 {
-            f64::INFINITY
-        } else {
-            inputs.k0_re / (2.0 * inputs.k0_im.abs())
-        };
-        if q > inputs.q_limit {
-            flags.push(Flag::QAbovePmlLimit {
-                limit: inputs.q_limit,
+    if let (Some(start), Some(m)) = (inputs.pml_start_from_axis, inputs.azimuthal_order) {
+        let caustic = m.abs() / (inputs.outer_index * inputs.k0_re);
+        if start < caustic {
+            flags.push(Flag::PmlInsideCaustic {
+                caustic,
+                pml_start: start,
             });
-        }
-        if let Some(m) = inputs.azimuthal_order {
-            let caustic = m.abs() / (inputs.outer_index * inputs.k0_re);
-            if start < caustic {
-                flags.push(Flag::PmlInsideCaustic {
-                    caustic,
-                    pml_start: start,
-                });
-            }
         }
     }
     if inputs.confinement < 0.5 {
@@ -134,6 +131,7 @@ mod tests {
             pml_start_from_axis: Some(0.2),
             confinement: 0.9,
             q_limit: 1e6,
+            has_pml: true,
         }
     }
 
@@ -153,6 +151,16 @@ mod tests {
         let mut i = base();
         i.k0_im = 0.01;
         assert_eq!(check(&i), vec![Flag::Growing]);
+        // A tiny positive Im k0 inside the PML's resolution is noise, not growth.
+        let mut i = base();
+        i.k0_im = 1e-6;
+        assert_eq!(check(&i), vec![Flag::QAbovePmlLimit { limit: 1e6 }]);
+        // Closed by walls: no PML flag; a lossless mode has no flag at all.
+        let mut i = base();
+        i.has_pml = false;
+        i.pml_start_from_axis = None;
+        i.k0_im = 0.0;
+        assert!(check(&i).is_empty());
         let mut i = base();
         i.k0_im = -1e-6; // Q = 5e7
         assert_eq!(check(&i), vec![Flag::QAbovePmlLimit { limit: 1e6 }]);

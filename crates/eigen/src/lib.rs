@@ -29,6 +29,7 @@
 mod error;
 mod matrix_market;
 pub mod model;
+pub mod scaling;
 mod shift_invert;
 mod solve;
 mod window;

@@ -114,13 +114,37 @@ pub struct Spectrum {
 }
 
 /// Eigenpairs of `pencil` nearest `sigma`: analysis, factorisation and Krylov-Schur in one call.
+///
+/// The pencil is first equilibrated (see [`crate::scaling`]); eigenvectors are
+/// mapped back and every residual is the true one, on the pencil as given.
 pub fn solve_near(
     pencil: &Pencil,
     sigma: c64,
     opts: &SolveOptions,
 ) -> Result<Spectrum, EigenError> {
-    let mut op = ShiftInvert::try_new(pencil)?;
-    op.solve_near(sigma, opts)
+    let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
+    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut spectrum = op.solve_near(sigma, opts)?;
+    restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs);
+    let failing = spectrum.pairs.iter().filter(|p| !p.converged).count();
+    if failing > 0 && spectrum.status == Status::Converged {
+        spectrum.status = Status::ResidualAboveTolerance { failing };
+    }
+    Ok(spectrum)
+}
+
+/// Maps pairs of an equilibrated pencil back to `pencil`, with true residuals.
+pub(crate) fn restore_pairs(
+    pencil: &Pencil,
+    scaled: &crate::scaling::Equilibrated,
+    tol: f64,
+    pairs: &mut [EigenPair],
+) {
+    for p in pairs {
+        p.vector = scaled.restore(&p.vector);
+        p.residual = relative_residual(pencil, p.lambda, &p.vector);
+        p.converged = p.residual <= tol;
+    }
 }
 
 impl ShiftInvert<'_> {

@@ -378,3 +378,49 @@ fn shape_and_option_errors_are_typed() {
         })
     ));
 }
+
+/// A pencil whose unknowns have wildly different scales (as edge and nodal
+/// finite-element unknowns in SI units do) has the same eigenvalues as the
+/// well-scaled one: `(S K S, S M S)` with `S` diagonal and invertible.
+/// Source: the exact 2D Dirichlet Laplacian eigenvalues (standard
+/// finite-difference analysis), as in the tests above.
+#[test]
+fn badly_scaled_pencil_is_equilibrated() {
+    let base = laplacian_2d_dirichlet(20);
+    let n = base.dim();
+    let s: Vec<f64> = (0..n)
+        .map(|i| if i % 3 == 0 { 1e-8 } else { 1e7 })
+        .collect();
+    let scale = |a: &faer::sparse::SparseColMat<usize, c64>| {
+        let r = a.as_ref();
+        let mut t = Vec::new();
+        for j in 0..n {
+            for (i, v) in r.row_idx_of_col(j).zip(r.val_of_col(j)) {
+                t.push(faer::sparse::Triplet::new(i, j, *v * (s[i] * s[j])));
+            }
+        }
+        faer::sparse::SparseColMat::try_new_from_triplets(n, n, &t).unwrap()
+    };
+    let pencil = Pencil::try_new(scale(&base.k), scale(&base.m)).unwrap();
+    let exact = laplacian_2d_dirichlet_eigenvalues(20);
+    let sigma = c64::new(500.0, 0.0);
+    let opts = SolveOptions {
+        count: 6,
+        ..SolveOptions::default()
+    };
+    let spectrum = solve_near(&pencil, sigma, &opts).unwrap();
+    assert_eq!(spectrum.pairs.len(), 6);
+    let mut nearest: Vec<f64> = exact.clone();
+    nearest.sort_by(|a, b| (a - 500.0).abs().total_cmp(&(b - 500.0).abs()));
+    for p in &spectrum.pairs {
+        assert!(p.converged, "residual {}", p.residual);
+        assert!(
+            nearest[..6]
+                .iter()
+                .any(|e| (p.lambda.re - e).abs() < 1e-8 * e),
+            "{:?} not among {:?}",
+            p.lambda,
+            &nearest[..6]
+        );
+    }
+}
