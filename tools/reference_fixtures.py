@@ -13,9 +13,11 @@ Equations (same sources as the Rust docs):
     Small Particles", eq. 4.53, with mu = 1, written here in the raw product
     form  psi_l(mx) xi_l'(x) - m psi_l'(mx) xi_l(x)  (TE)  and
     m psi_l(mx) xi_l'(x) - psi_l'(mx) xi_l(x)  (TM),  x = n_out k0 a.
-    Starting points: Lam, Leung & Young, JOSA B 9, 1585 (1992). The radial
-    order p is checked with the argument principle (winding number of the
-    denominator round a box).
+    Roots are isolated with the argument principle (winding number of the
+    denominator round boxes, split until each holds one zero) in the strip
+    0.05 <= Re x, -(2 w + 1/2) <= Im x <= 1/2, w = ln((m+1)/(m-1)) / (2m);
+    the radial order p counts them by increasing Re x. The asymptotic
+    positions of Lam, Leung & Young, JOSA B 9, 1585 (1992) only size the box.
   * Metal cavities: Pozar, Microwave Engineering, sec. 6.3 (cylinder); the
     coaxial cross-product equations (Marcuvitz, Waveguide Handbook, sec. 2.4).
   * Step-index fibre: Snyder & Love, Optical Waveguide Theory, ch. 12
@@ -23,7 +25,8 @@ Equations (same sources as the Rust docs):
     (eta + kappa)(eta + r kappa) = nu^2 (1/U^2 + 1/W^2)(1/U^2 + r/W^2),
     multiplied by J_nu(U)^2 so that it has no poles.
 
-Run:  python3 tools/reference_fixtures.py      (takes about a minute)
+Run:  python3 tools/reference_fixtures.py [bessel|cavity|fibre|sphere ...]
+(all four take about 15 minutes, mostly the fibre scans)
 """
 
 import json
@@ -102,14 +105,14 @@ def lly_position(l, p, n, pol):
     """Lam, Leung & Young (1992) asymptotic size parameter of resonance (l, p)."""
     nu = mp.mpf(l) + mp.mpf(1) / 2
     a = airy_zero(p)
-    P = 1 if pol == "TE" else 1 / n**2
+    P = n if pol == "TE" else 1 / n
     c = mp.mpf(2) ** (-mp.mpf(1) / 3)
     nx = (
         nu
         + c * a * nu ** (mp.mpf(1) / 3)
-        - P * n / mp.sqrt(n**2 - 1)
+        - P / mp.sqrt(n**2 - 1)
         + mp.mpf(3) / 10 * c**2 * a**2 * nu ** (-mp.mpf(1) / 3)
-        - c * P * n * (n**2 - 2 * P**2 / 3) / (n**2 - 1) ** (mp.mpf(3) / 2) * a * nu ** (-mp.mpf(2) / 3)
+        - c * P * (n**2 - 2 * P**2 / 3) / (n**2 - 1) ** (mp.mpf(3) / 2) * a * nu ** (-mp.mpf(2) / 3)
     )
     return nx / n
 
@@ -155,28 +158,58 @@ def winding_number(fun, corners, base_pts=48):
     return int(mp.nint(total / (2 * mp.pi)))
 
 
+def fabry_perot_width(m):
+    """Im-part scale of low-l resonances: ln((m+1)/(m-1)) / (2m)."""
+    return mp.log((m + 1) / (m - 1)) / (2 * m)
+
+
+def roots_in_box(fun, x0, x1, y0, y1, depth=0):
+    """All zeros of fun in the box [x0, x1] x [y0, y1]: argument principle,
+    the secant method from the centre of a box with one zero, otherwise split the longer
+    side (off-centre, so that edges avoid the real axis)."""
+    corners = [mp.mpc(x0, y0), mp.mpc(x1, y0), mp.mpc(x1, y1), mp.mpc(x0, y1)]
+    count = winding_number(fun, corners)
+    if count == 0:
+        return []
+    if count == 1:
+        try:
+            c = mp.mpc((x0 + x1) / 2, (y0 + y1) / 2)
+            h = min(x1 - x0, y1 - y0) / 10
+            r = mp.findroot(fun, (c, c + h), solver="secant", maxsteps=100)
+            if x0 <= mp.re(r) <= x1 and y0 <= mp.im(r) <= y1:
+                return [r]
+        except (ValueError, ZeroDivisionError):
+            pass
+    if depth > 40:
+        raise SystemExit(f"root isolation failed in box {corners}")
+    t = mp.mpf("0.4721")
+    if x1 - x0 >= y1 - y0:
+        xm = x0 + t * (x1 - x0)
+        return roots_in_box(fun, x0, xm, y0, y1, depth + 1) + roots_in_box(fun, xm, x1, y0, y1, depth + 1)
+    ym = y0 + t * (y1 - y0)
+    return roots_in_box(fun, x0, x1, y0, ym, depth + 1) + roots_in_box(fun, x0, x1, ym, y1, depth + 1)
+
+
+def lowest_resonances(fun, l, m, pol, count):
+    """The `count` zeros of lowest Re x in the strip
+    0.05 <= Re x, -(2 w + 1/2) <= Im x <= 1/2, w = fabry_perot_width(Re m)."""
+    mr = mp.re(m)
+    bottom = -(2 * fabry_perot_width(mr) + mp.mpf("0.5"))
+    right = lly_position(l, count, mr, pol) + mp.pi / mr / 2
+    while winding_number(fun, [mp.mpc(0.05, bottom), mp.mpc(right, bottom), mp.mpc(right, 0.5), mp.mpc(0.05, 0.5)]) < count:
+        right += mp.pi / mr / 2
+    roots = sorted(roots_in_box(fun, mp.mpf("0.05"), right, bottom, mp.mpf("0.5")), key=lambda r: mp.re(r))
+    # polish at full precision
+    return [mp.findroot(fun, r, solver="secant") for r in roots[:count]]
+
+
 def sphere_fixture():
     cases = []
     for n in (mp.mpf("1.5"), mp.mpf(2), mp.mpf(3)):
         for pol in ("TE", "TM"):
             for l in (1, 5, 10, 20, 30):
                 fun = mie_denominator(l, n, pol)
-                roots = []
-                for p in (1, 2, 3):
-                    x0 = lly_position(l, p, n, pol)
-                    # complex start below the axis; low-l modes are lossy
-                    x0 = mp.mpc(x0, -0.5 / n**2 if l < 5 else -1e-3)
-                    x = mp.findroot(fun, x0, solver="muller", tol=mp.mpf(10) ** -60, maxsteps=200)
-                    roots.append(x)
-                # Argument principle: the box (0.05 .. Re x_p + 0.3) x (-(2|Im x_3| + 0.5) .. 0.5)
-                # must hold exactly 3 zeros (the pole at x = 0 is outside).
-                bottom = -(2 * max(abs(mp.im(r)) for r in roots) + mp.mpf("0.5"))
-                right = mp.re(roots[2]) + mp.mpf("0.3")
-                box = [mp.mpc(0.05, bottom), mp.mpc(right, bottom), mp.mpc(right, 0.5), mp.mpc(0.05, 0.5)]
-                count = winding_number(fun, box)
-                ordered = sorted(roots, key=lambda r: mp.re(r))
-                if count != 3 or ordered != roots:
-                    raise SystemExit(f"ordering check failed: n={n} {pol} l={l} count={count} roots={roots}")
+                roots = lowest_resonances(fun, l, n, pol, 3)
                 for p, x in enumerate(roots, start=1):
                     cases.append(
                         {
@@ -190,16 +223,14 @@ def sphere_fixture():
                             "lly": f(lly_position(l, p, n, pol)),
                         }
                     )
-                print(f"sphere n={n} {pol} l={l}: {[mp.nstr(r, 12) for r in roots]}")
+                print(f"sphere n={n} {pol} l={l}: {[mp.nstr(r, 12) for r in roots]}", flush=True)
     # a lossy sphere in a host medium (relative index m = n / n_out)
     n_c, n_out = mp.mpc("2.2", "0.01"), mp.mpf("1.33")
     for pol in ("TE", "TM"):
         for l in (4, 12):
             m = n_c / n_out
-            fun = mie_denominator(l, m, pol)
-            for p in (1, 2):
-                x0 = lly_position(l, p, mp.re(m), pol)
-                x = mp.findroot(fun, mp.mpc(x0, -1e-2), solver="muller", tol=mp.mpf(10) ** -60, maxsteps=200)
+            roots = lowest_resonances(mie_denominator(l, m, pol), l, m, pol, 2)
+            for p, x in enumerate(roots, start=1):
                 k0a = x / n_out
                 cases.append(
                     {
@@ -226,7 +257,7 @@ C0 = mp.mpf(299792458)
 
 
 def cylinder_modes(a, d, count):
-    a, d = mp.mpf(a), mp.mpf(d)
+    a, d = mp.mpf(float(a)), mp.mpf(float(d))
     modes = []
     kmax = mp.mpf(0)
     # enumerate generously: all TM/TE with m <= 12, n <= 6, p <= 8 and keep the lowest
@@ -272,7 +303,7 @@ def coax_cutoffs(m, a, b, kind, kmax):
 
 
 def coax_modes(a, b, d, count):
-    a, b, d = mp.mpf(a), mp.mpf(b), mp.mpf(d)
+    a, b, d = (mp.mpf(float(t)) for t in (a, b, d))
     # TEM_p alone gives `count` modes up to count * pi / d; grow kmax from a
     # smaller guess until `count` modes lie below it.
     kmax = mp.pi / (b - a)
@@ -318,21 +349,26 @@ def cavity_fixture():
 
 
 def fibre_modes(a, n1, n2, lam):
-    a, n1, n2, lam = mp.mpf(a), mp.mpf(n1), mp.mpf(n2), mp.mpf(lam)
+    # inputs rounded to doubles first, so that Rust solves exactly the same problem
+    a, n1, n2, lam = (mp.mpf(float(t)) for t in (a, n1, n2, lam))
     k0 = 2 * mp.pi / lam
     V = k0 * a * mp.sqrt(n1**2 - n2**2)
     r = n2**2 / n1**2
     out = []
 
     def scan(g, label):
-        steps = 3000
+        steps = int(max(400, 60 * V))  # roots of one branch are ~pi apart in U
         roots = []
         us = [V * (i + mp.mpf("0.5")) / steps for i in range(steps)]
+        # HE_1m modes (m >= 2) approach cut-off with W -> 0 exponentially fast:
+        # sample geometrically close to U = V as well
+        us += [V * (1 - mp.mpf(10) ** -k) for k in range(4, 15)]
         gs = [g(u) for u in us]
-        for i in range(steps - 1):
+        for i in range(len(us) - 1):
             if gs[i] * gs[i + 1] < 0:
                 roots.append(mp.findroot(g, (us[i], us[i + 1]), solver="anderson"))
-        return roots
+        # same reporting rule as the Rust code: W > 1e-6 V
+        return [u for u in roots if W(u) > mp.mpf("1e-6") * V]
 
     def W(u):
         return mp.sqrt(V**2 - u**2)
@@ -401,7 +437,9 @@ def write(name, data):
 
 
 if __name__ == "__main__":
-    write("bessel.json", bessel_fixture())
-    write("cavity.json", cavity_fixture())
-    write("fibre.json", fibre_fixture())
-    write("sphere.json", sphere_fixture())
+    import sys
+
+    builders = {"bessel": bessel_fixture, "cavity": cavity_fixture, "fibre": fibre_fixture, "sphere": sphere_fixture}
+    # optional arguments: a subset of the fixture names above
+    for name in sys.argv[1:] or builders:
+        write(name + ".json", builders[name]())

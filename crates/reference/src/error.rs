@@ -35,10 +35,8 @@ pub enum ReferenceError {
         /// Size of the last correction.
         last_step: f64,
     },
-    /// The root found for a Mie resonance is not the p-th one (argument-principle check).
-    #[error(
-        "Mie resonance l = {l}, p = {p}: the box up to the root holds {count} roots, expected {p}"
-    )]
+    /// The search strip did not yield p Mie resonances (argument-principle count).
+    #[error("Mie resonance l = {l}, p = {p}: the search strip holds {count} roots (< p; -1: stopped growing)")]
     RadialOrderMismatch {
         /// Angular number.
         l: u32,

@@ -24,8 +24,8 @@
 //! equation, so HE_11 is the fundamental mode). Each branch is solved for `U`
 //! on `(0, V)` after multiplying by `J_nu(U)` (no poles), by scanning for sign
 //! changes and refining with Brent's method; `m` counts roots from the
-//! smallest `U` (largest `n_eff`). Modes with `W < 1e-6 V` (at cut-off) are not
-//! reported. Every label is one mode at fixed azimuthal order `nu`; in the
+//! smallest `U` (largest `n_eff`). The scan covers `1e-3 V < U < V`; modes
+//! with `W < 1e-6 V` (at cut-off) are not reported. Every label is one mode at fixed azimuthal order `nu`; in the
 //! lab, HE/EH modes with `nu >= 1` are doubly degenerate (even/odd), TE/TM
 //! are single.
 
@@ -180,7 +180,10 @@ impl StepIndexFibre {
         v: f64,
     ) -> Result<Vec<f64>, ReferenceError> {
         let samples = ((SAMPLES_PER_V * v).ceil() as usize).max(400);
-        let (lo, hi) = (1e-9 * v, v * (1.0 - 5e-13));
+        // Near U = 0 both terms of the hybrid function grow like nu / U^2 and
+        // cancel to O(1): below U ~ 1e-3 V round-off decides the sign. No
+        // guided mode has U that small (HE11 has U -> V as V -> 0).
+        let (lo, hi) = (1e-3 * v, v * (1.0 - 5e-13));
         let h = (hi - lo) / samples as f64;
         let mut roots = Vec::new();
         let g = |u: f64| self.characteristic(kind, nu, u, v);

@@ -17,22 +17,23 @@
 //! `Im k0 < 0`; `Q = Re k0 / (2 |Im k0|)`. Each resonance is `2l + 1`-fold
 //! degenerate (azimuthal number `-l..=l`).
 //!
-//! **Radial order `p`.** For fixed `(l, polarisation)` the resonances near the
-//! real axis are ordered by increasing `Re k0 a`; `p = 1` is the lowest, and
-//! `p - 1` is the number of radial nodes of the interior field. The strongly
-//! damped "exterior" family that lies near the zeros of `h_l^(1)` (deep in
-//! the lower half plane) is not counted. [`mie_resonance`] checks the order
-//! with the argument principle: the box
-//! `0.05 <= Re x <= Re x_p + 0.1 pi / Re m`,
-//! `-(2 |Im x_p| + 1/2) <= Im x <= 1/2` must hold exactly `p` zeros of the
-//! (pole-free for `x != 0`) product form above.
+//! **Radial order `p`.** For fixed `(l, polarisation)` the resonances are
+//! counted by increasing `Re k0 a` inside the strip
+//! `0.05 <= Re x`, `-(2 w + 1/2) <= Im x <= 1/2`, `w = ln((m+1)/(m-1)) / (2m)`
+//! (the Fabry-Perot width scale, `m` real part of the relative index);
+//! `p = 1` is the lowest, and `p - 1` is the number of radial nodes of the
+//! interior field. Zeros are counted and isolated with the argument
+//! principle, so no resonance in the strip is skipped; strongly damped
+//! zeros below the strip are not counted.
 //!
-//! **Root finding.** Newton's method on the equivalent form
+//! **Root finding.** In each box holding one zero, Newton's method on the
+//! equivalent form
 //! `f_TE = psi_l(mx) G(x) - m psi_l'(mx)`, `f_TM = m psi_l(mx) G(x) - psi_l'(mx)`,
 //! `G = xi_l' / xi_l` (the product form divided by `xi_l(x)`, which keeps
 //! the terms of order one), with the exact derivative from the Riccati-Bessel
 //! equation `psi'' = (l(l+1)/z^2 - 1) psi` (same for `xi`), started from the
-//! asymptotic position of Lam, Leung & Young ([`lam_leung_young_position`]).
+//! box centre. The asymptotic position of Lam, Leung & Young
+//! ([`lam_leung_young_position`]) only sizes the search box.
 
 use num_complex::Complex64;
 
@@ -148,25 +149,24 @@ pub fn airy_ai_zero(p: u32) -> f64 {
 /// large `nu = l + 1/2`, relative index `m > 1`:
 ///
 /// ```text
-/// m x = nu + 2^(-1/3) a_p nu^(1/3) - P m / sqrt(m^2 - 1)
+/// m x = nu + 2^(-1/3) a_p nu^(1/3) - P / sqrt(m^2 - 1)
 ///       + (3/10) 2^(-2/3) a_p^2 nu^(-1/3)
-///       - 2^(-1/3) P m (m^2 - 2 P^2 / 3) / (m^2 - 1)^(3/2) a_p nu^(-2/3) + O(nu^-1)
+///       - 2^(-1/3) P (m^2 - 2 P^2 / 3) / (m^2 - 1)^(3/2) a_p nu^(-2/3) + O(nu^-1)
 /// ```
 ///
-/// with `P = 1` (TE) or `P = 1 / m^2` (TM) and `a_p` the `p`-th zero of
+/// with `P = m` (TE) or `P = 1 / m` (TM) and `a_p` the `p`-th zero of
 /// `Ai(-x)`. Returns the real size parameter `x = n_out k0 a`; the error is
 /// `O(nu^-1)` and the radiative width (imaginary part) is not included.
 pub fn lam_leung_young_position(l: u32, p: u32, m: f64, polarization: SpherePolarization) -> f64 {
     let nu = f64::from(l) + 0.5;
     let a = airy_ai_zero(p);
     let pp = match polarization {
-        SpherePolarization::Te => 1.0,
-        SpherePolarization::Tm => 1.0 / (m * m),
+        SpherePolarization::Te => m,
+        SpherePolarization::Tm => 1.0 / m,
     };
     let c = 2f64.powf(-1.0 / 3.0);
-    let mx = nu + c * a * nu.cbrt() - pp * m / (m * m - 1.0).sqrt()
-        + 0.3 * c * c * a * a / nu.cbrt()
-        - c * pp * m * (m * m - 2.0 * pp * pp / 3.0) / (m * m - 1.0).powf(1.5)
+    let mx = nu + c * a * nu.cbrt() - pp / (m * m - 1.0).sqrt() + 0.3 * c * c * a * a / nu.cbrt()
+        - c * pp * (m * m - 2.0 * pp * pp / 3.0) / (m * m - 1.0).powf(1.5)
             * a
             * nu.powf(-2.0 / 3.0);
     mx / m
@@ -214,10 +214,23 @@ fn newton_function(
     })
 }
 
-/// The resonance `(l, p, polarization)` of `sphere` (module docs): Newton from
-/// the Lam-Leung-Young position, then the argument-principle check of `p`.
+/// Scale of the radiative width of low-l resonances (Fabry-Perot estimate
+/// for a slab of index `m`): `ln((m + 1) / (m - 1)) / (2 m)`.
+fn fabry_perot_width(m: f64) -> f64 {
+    ((m + 1.0) / (m - 1.0)).ln() / (2.0 * m)
+}
+
+/// The search strip `0.05 <= Re x`, `-(2 w + 1/2) <= Im x <= 1/2` (module docs).
+const STRIP_LEFT: f64 = 0.05;
+const STRIP_TOP: f64 = 0.5;
+
+/// The resonance `(l, p, polarization)` of `sphere` (module docs).
 ///
-/// Converges to ~1e-15 relative in `x`; `l` up to a few hundred is fine.
+/// The strip is cut at `Re x = X`, with `X` grown from the Lam-Leung-Young
+/// position until the box holds at least `p` zeros (argument principle); the
+/// zeros in the box are isolated by splitting it until each part holds one,
+/// found there by Newton's method, sorted by `Re x`, and the `p`-th returned.
+/// Converges to ~1e-15 relative in `Re x`; `l` up to a few hundred is fine.
 pub fn mie_resonance(
     sphere: &MieSphere,
     l: u32,
@@ -232,27 +245,39 @@ pub fn mie_resonance(
         });
     }
     let m = sphere.relative_index();
-    let guess = lam_leung_young_position(l, p, m.re, polarization);
-    // Low-l modes are lossy: start below the axis (Fabry-Perot estimate of
-    // the width, -ln((m+1)/(m-1)) / (2m), capped), and never at x <= 0.
-    let width = (((m.re + 1.0) / (m.re - 1.0)).ln() / (2.0 * m.re)).min(1.0);
-    let start_im = if l < 5 { -width } else { -1e-3 };
-    let mut x = Complex64::new(guess.max(0.5), start_im);
-    let (x, iterations) = newton(m, l, polarization, &mut x)?;
-
-    // Argument principle: exactly p zeros between the left edge and just past x.
-    let right = x.re + 0.1 * std::f64::consts::PI / m.re;
-    let bottom = -(2.0 * x.im.abs() + 0.5);
-    let corners = [
-        Complex64::new(0.05, bottom),
-        Complex64::new(right, bottom),
-        Complex64::new(right, 0.5),
-        Complex64::new(0.05, 0.5),
-    ];
-    let count = winding_number(|z| mie_denominator(sphere, l, polarization, z), &corners)?;
-    if count != i64::from(p) {
-        return Err(ReferenceError::RadialOrderMismatch { l, p, count });
+    let bottom = -(2.0 * fabry_perot_width(m.re) + 0.5);
+    let half_spacing = 0.5 * std::f64::consts::PI / m.re;
+    let mut right =
+        lam_leung_young_position(l, p, m.re, polarization).max(STRIP_LEFT) + half_spacing;
+    let denominator = |z: Complex64| mie_denominator(sphere, l, polarization, z);
+    let mut grown = 0;
+    while winding_number(
+        denominator,
+        &box_corners(STRIP_LEFT, right, bottom, STRIP_TOP),
+    )? < i64::from(p)
+    {
+        right += half_spacing;
+        grown += 1;
+        if grown > 200 {
+            return Err(ReferenceError::RadialOrderMismatch { l, p, count: -1 });
+        }
     }
+    let mut roots = Vec::new();
+    let mut iterations = 0;
+    isolate_roots(
+        sphere,
+        l,
+        polarization,
+        [STRIP_LEFT, right, bottom, STRIP_TOP],
+        0,
+        &mut roots,
+        &mut iterations,
+    )?;
+    roots.sort_by(|a, b| a.re.total_cmp(&b.re));
+    let count = roots.len() as i64;
+    let x = *roots
+        .get(p as usize - 1)
+        .ok_or(ReferenceError::RadialOrderMismatch { l, p, count })?;
     let k0a = x / sphere.outer_index;
     Ok(MieResonance {
         l,
@@ -262,6 +287,67 @@ pub fn mie_resonance(
         q: k0a.re / (2.0 * k0a.im.abs()),
         iterations,
     })
+}
+
+fn box_corners(x0: f64, x1: f64, y0: f64, y1: f64) -> [Complex64; 4] {
+    [
+        Complex64::new(x0, y0),
+        Complex64::new(x1, y0),
+        Complex64::new(x1, y1),
+        Complex64::new(x0, y1),
+    ]
+}
+
+/// Pushes every zero of the Mie denominator inside `[x0, x1, y0, y1]`.
+/// A box with one zero is tried with Newton from its centre; otherwise (or
+/// if Newton leaves the box) the longer side is split at 0.4721 of its
+/// length (off-centre, so edges do not land on the real axis where high-Q
+/// zeros sit).
+fn isolate_roots(
+    sphere: &MieSphere,
+    l: u32,
+    polarization: SpherePolarization,
+    [x0, x1, y0, y1]: [f64; 4],
+    depth: usize,
+    roots: &mut Vec<Complex64>,
+    iterations: &mut usize,
+) -> Result<(), ReferenceError> {
+    let count = winding_number(
+        |z| mie_denominator(sphere, l, polarization, z),
+        &box_corners(x0, x1, y0, y1),
+    )?;
+    if count <= 0 {
+        return Ok(());
+    }
+    if count == 1 {
+        let mut x = Complex64::new(0.5 * (x0 + x1), 0.5 * (y0 + y1));
+        if let Ok((r, its)) = newton(sphere.relative_index(), l, polarization, &mut x) {
+            *iterations += its;
+            if r.re >= x0 && r.re <= x1 && r.im >= y0 && r.im <= y1 {
+                roots.push(r);
+                return Ok(());
+            }
+        }
+    }
+    if depth > 60 {
+        return Err(ReferenceError::NoConvergence {
+            what: "Mie root isolation by box splitting",
+            iterations: depth,
+            last_step: x1 - x0,
+        });
+    }
+    const CUT: f64 = 0.4721;
+    let halves = if x1 - x0 >= y1 - y0 {
+        let xm = x0 + CUT * (x1 - x0);
+        [[x0, xm, y0, y1], [xm, x1, y0, y1]]
+    } else {
+        let ym = y0 + CUT * (y1 - y0);
+        [[x0, x1, y0, ym], [x0, x1, ym, y1]]
+    };
+    for half in halves {
+        isolate_roots(sphere, l, polarization, half, depth + 1, roots, iterations)?;
+    }
+    Ok(())
 }
 
 fn newton(
