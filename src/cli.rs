@@ -24,6 +24,28 @@ pub enum Command {
     Demo(DemoArgs),
     /// Compare the solver with exact answers (metal cavities, Mie sphere, fibre).
     Validate(ValidateArgs),
+    /// Solve a case over a range of one key and follow the mode families.
+    Sweep(SweepArgs),
+}
+
+/// Options of `sweep`.
+#[derive(Debug, Args)]
+pub struct SweepArgs {
+    /// Case, overrides, output folder.
+    #[command(flatten)]
+    pub case: CaseArgs,
+    /// The case key to vary, e.g. `search.m` or `section.width`.
+    #[arg(long, value_name = "KEY")]
+    pub vary: String,
+    /// First value (in the case file's units).
+    #[arg(long)]
+    pub from: f64,
+    /// Last value (included when the steps land on it).
+    #[arg(long)]
+    pub to: f64,
+    /// Step between values.
+    #[arg(long, default_value_t = 1.0)]
+    pub step: f64,
 }
 
 /// Options of `validate`.

@@ -9,6 +9,7 @@
 pub mod pictures;
 pub mod report;
 pub mod solve;
+pub mod sweep;
 pub mod validate;
 
 pub use twistmode_analysis as analysis;

@@ -210,3 +210,55 @@ fn demo_writes_table_json_and_pictures() {
     assert!(is_png(&d.join("mesh.png")));
     assert!(is_png(&d.join("mode_00_E2.png")));
 }
+
+#[test]
+fn sweep_follows_a_family_and_resumes() {
+    let dir = tempfile::tempdir().unwrap();
+    let case = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/demo_ribbon_ring.toml");
+    let args = [
+        "sweep",
+        case.to_str().unwrap(),
+        "--set",
+        "mesh.resolution=4",
+        "--set",
+        "search.count=1",
+        "--vary",
+        "search.m",
+        "--from",
+        "17",
+        "--to",
+        "19",
+        "--out",
+        "sw",
+    ];
+    let out = twistmode(dir.path(), &args);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let doc: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("sw/families.json")).unwrap())
+            .unwrap();
+    assert_eq!(doc["solved"], 3);
+    let fam = &doc["families"][0];
+    let members = fam["members"].as_array().unwrap();
+    assert_eq!(members.len(), 3);
+    // Resonances of one family rise with m; FSR = f(m+1) - f(m) > 0 and the
+    // group index c / (2 pi R FSR) (common practice) exceeds 1.
+    let ranges = fam["ranges"].as_array().unwrap();
+    assert_eq!(ranges.len(), 2);
+    for r in ranges {
+        assert!(r["fsr_hz"].as_f64().unwrap() > 0.0);
+        assert!(r["group_index"].as_f64().unwrap() > 1.0);
+    }
+    assert!(is_png(&dir.path().join("sw/families.png")));
+    // Run again: every point is loaded, none solved.
+    let out = twistmode(dir.path(), &args);
+    assert!(out.status.success());
+    let doc: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("sw/families.json")).unwrap())
+            .unwrap();
+    assert_eq!(doc["solved"], 0);
+    assert_eq!(doc["resumed"], 3);
+}

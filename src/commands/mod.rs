@@ -6,7 +6,7 @@ use twistmode::report::{modes_table, write_tables, ResultsDocument};
 use twistmode::solve::{solve_case, SolveOutcome, SolveSettings};
 use twistmode_io::case::{parse_set_argument, Body, Case};
 
-use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs, ValidateArgs};
+use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs, SweepArgs, ValidateArgs};
 
 /// The built-in demo case (a scenario of our own).
 const DEMO_CASE: &str = include_str!("../../examples/demo_ribbon_ring.toml");
@@ -18,6 +18,7 @@ pub fn run(cli: Cli) -> Result<()> {
         Command::Solve(args) => solve(&args),
         Command::Demo(args) => demo(&args),
         Command::Validate(args) => validate(&args),
+        Command::Sweep(args) => sweep(&args),
     }
 }
 
@@ -204,6 +205,134 @@ fn validate(args: &ValidateArgs) -> Result<()> {
     println!("{} passed, {} failed", checks.len() - failed, failed);
     if failed > 0 {
         anyhow::bail!("{failed} validation checks outside tolerance");
+    }
+    Ok(())
+}
+
+fn sweep(args: &SweepArgs) -> Result<()> {
+    use twistmode::sweep::{run_sweep, SweepPlan};
+    use twistmode_io::plot::{plot_lines, Series};
+    if args.step.is_nan()
+        || args.step <= 0.0
+        || !args.from.is_finite()
+        || !args.to.is_finite()
+        || args.to < args.from
+    {
+        anyhow::bail!(
+            "--from {} --to {} --step {}: need finite values with from <= to and a positive step",
+            args.from,
+            args.to,
+            args.step
+        );
+    }
+    let count = ((args.to - args.from) / args.step + 1e-9).floor() as usize + 1;
+    if count > 10_000 {
+        anyhow::bail!(
+            "--step {}: {count} points is too many; use a larger step",
+            args.step
+        );
+    }
+    let values: Vec<f64> = (0..count)
+        .map(|i| args.from + i as f64 * args.step)
+        .collect();
+    let fixed = overrides(&args.case.set)?;
+    let text = std::fs::read_to_string(&args.case.case)
+        .with_context(|| format!("cannot read {}", args.case.case.display()))?;
+    // Check the case once with the first value, so errors come before any work.
+    let mut first = fixed.clone();
+    first.push((args.vary.clone(), format!("{}", values[0])));
+    Case::load(&args.case.case, &first)?;
+    make_dir(&args.case.out)?;
+    let bar = indicatif::ProgressBar::new(values.len() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(
+            "{bar:40} {pos}/{len} points, {elapsed} elapsed, about {eta} left",
+        )
+        .expect("valid template"),
+    );
+    let case_path = args.case.case.clone();
+    let load = move |ov: &[(String, String)]| -> Result<Case, twistmode::solve::SolveError> {
+        Ok(Case::load(&case_path, ov)?)
+    };
+    let outcome = run_sweep(
+        &text,
+        &fixed,
+        &load,
+        &SweepPlan {
+            key: args.vary.clone(),
+            values,
+        },
+        &SolveSettings::default(),
+        &args.case.out,
+        &|done, _| bar.set_position(done as u64),
+    )?;
+    bar.finish_and_clear();
+    eprintln!(
+        "sweep of {}: {} points solved, {} resumed from {}",
+        outcome.key,
+        outcome.solved,
+        outcome.resumed,
+        args.case.out.join("points").display()
+    );
+    let mut table = twistmode_io::output::Table::new([
+        "family",
+        &args.vary,
+        "Re f (Hz)",
+        "Q",
+        "FSR (Hz)",
+        "group index",
+    ]);
+    for fam in &outcome.families {
+        for m in &fam.family.members {
+            let range = fam
+                .ranges
+                .iter()
+                .find(|r| (r.m - (m.parameter + 0.5)).abs() < 1e-9);
+            table.try_push_row([
+                fam.family.label.clone(),
+                format!("{}", m.parameter),
+                format!("{:.9e}", m.frequency_hz),
+                if m.q.is_finite() {
+                    format!("{:.4e}", m.q)
+                } else {
+                    "inf".into()
+                },
+                range
+                    .map(|r| format!("{:.6e}", r.fsr_hz))
+                    .unwrap_or_default(),
+                range
+                    .and_then(|r| r.group_index)
+                    .map(|g| format!("{g:.5}"))
+                    .unwrap_or_default(),
+            ])?;
+        }
+    }
+    print!("{}", table.to_text());
+    let out = &args.case.out;
+    twistmode_io::output::write_json(&out.join("families.json"), &outcome)?;
+    table.write_csv(&out.join("families.csv"))?;
+    let series: Vec<Series> = outcome
+        .families
+        .iter()
+        .map(|f| Series {
+            name: f.family.label.clone(),
+            points: f
+                .family
+                .members
+                .iter()
+                .map(|m| (m.parameter, m.frequency_hz / 1e9))
+                .collect(),
+        })
+        .collect();
+    plot_lines(
+        &out.join("families.png"),
+        "mode families",
+        &args.vary,
+        "Re f (GHz)",
+        &series,
+    )?;
+    for name in ["families.json", "families.csv", "families.png"] {
+        println!("wrote {}", out.join(name).display());
     }
     Ok(())
 }

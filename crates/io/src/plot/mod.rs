@@ -7,8 +7,10 @@
 //! read. Both axes share one scale (equal aspect ratio), in the case's length unit.
 
 mod colormap;
+mod lines;
 
 pub use colormap::Colormap;
+pub use lines::{plot_lines, Series};
 
 use crate::units::LengthUnit;
 use plotters::coord::Shift;
