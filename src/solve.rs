@@ -118,6 +118,8 @@ pub struct SolverFacts {
     pub factor_seconds: f64,
     /// Seconds in Krylov-Schur iterations.
     pub iteration_seconds: f64,
+    /// Why fewer modes than asked for were reported, when that happens.
+    pub shortfall: Option<String>,
 }
 
 /// One reported mode.
@@ -567,9 +569,23 @@ pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome,
         assembly_seconds,
         factor_seconds: spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
         iteration_seconds: spectrum.stats.iteration_seconds,
+        shortfall: None,
     };
     let (modes, nodal_fields) =
         describe_modes(case, &problem, &system, &spectrum, settings, &mut solver);
+    if modes.len() < case.search.count {
+        solver.shortfall = Some(format!(
+            "found {} of the {} modes asked for: the eigensolver returned {} pairs nearest the \
+             target, of which {} were static (k0 = 0), {} PML and {} box modes. Move \
+             search.near_frequency closer to the modes you want or raise search.count",
+            modes.len(),
+            case.search.count,
+            spectrum.pairs.len() + spectrum.static_dropped,
+            spectrum.static_dropped,
+            solver.pml_dropped,
+            solver.box_dropped
+        ));
+    }
     drop(problem);
     Ok(SolveOutcome {
         mesh,

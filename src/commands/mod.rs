@@ -98,6 +98,9 @@ fn solve_and_write(
             "solver: {}; static pairs set aside {}, PML modes dropped {}, box modes dropped {}",
             s.status, s.static_dropped, s.pml_dropped, s.box_dropped
         );
+        if let Some(note) = &s.shortfall {
+            println!("note: {note}");
+        }
         println!(
             "time: mesh {:.2} s, assembly {:.2} s, factorisation {:.2} s, iterations {:.2} s",
             outcome.mesh_facts.seconds, s.assembly_seconds, s.factor_seconds, s.iteration_seconds
