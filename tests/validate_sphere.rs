@@ -103,3 +103,15 @@ fn bench_l30_refinement() {
     // Source: Mie theory via twistmode_reference::mie_resonance.
     assert!(solve.identified());
 }
+
+/// The full level (minutes; the figures of docs/validation-sphere.md), the
+/// same as `twistmode validate --full --only sphere`; run with
+/// `cargo test --release --test validate_sphere full_level -- --ignored --nocapture`.
+#[test]
+#[ignore]
+fn full_level() {
+    let checks = sphere::run(Level::Full).expect("the sphere validation runs");
+    print_table(&checks);
+    let failed = checks.iter().filter(|c| !c.passed()).count();
+    println!("{} checks, {failed} failed", checks.len());
+}

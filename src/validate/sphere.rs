@@ -70,12 +70,15 @@ pub struct SphereProbe {
     pub pml_wavelengths: f64,
     /// Use the midplane wall matching the mode's parity (halves the unknowns).
     pub use_midplane: bool,
+    /// Keep modes the pipeline would drop as PML or box modes (needed for
+    /// l = 1, whose Q of a few puts much of the energy outside the sphere).
+    pub keep_all: bool,
 }
 
 impl SphereProbe {
     /// A probe with the defaults used by [`run`]: order 2, 12 elements per
     /// wavelength, PML from 1.2 times the caustic, half a wavelength thick,
-    /// midplane wall.
+    /// midplane wall, PML and box modes kept for `l <= 2` only.
     pub fn new(index: f64, l: u32, p: u32, polarization: SpherePolarization, m: i32) -> Self {
         SphereProbe {
             index,
@@ -88,6 +91,7 @@ impl SphereProbe {
             caustic_margin: 1.2,
             pml_wavelengths: 0.5,
             use_midplane: true,
+            keep_all: l <= 2,
         }
     }
 
@@ -224,7 +228,11 @@ pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, SolveError> {
     let exact = exact_resonance(probe)?;
     let case = Case::from_toml_str(&case_text(probe, &exact), &[])?;
     let start = Instant::now();
-    let outcome = solve_case(&case, &SolveSettings::default())?;
+    let settings = SolveSettings {
+        keep_all: probe.keep_all,
+        ..SolveSettings::default()
+    };
+    let outcome = solve_case(&case, &settings)?;
     let seconds = start.elapsed().as_secs_f64();
     let metres = RADIUS_UM * 1e-6;
     let all_k0a: Vec<Complex64> = outcome
@@ -365,7 +373,23 @@ pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
     let mut checks = Vec::new();
     let mut done: Vec<(SphereProbe, SphereSolve)> = Vec::new();
     for probe in probes(level) {
-        let solve = solve_probe(&probe)?;
+        let solve = match solve_probe(&probe) {
+            Ok(solve) => solve,
+            Err(e) => {
+                // A failed solve is a failed check, not the end of the run.
+                checks.push(Check::new(
+                    format!("sphere {} (order {})", probe.name(), probe.order),
+                    format!("solve failed: {e}"),
+                    f64::NAN,
+                    1.0,
+                    0.0,
+                    SOURCE,
+                    0,
+                    0.0,
+                ));
+                continue;
+            }
+        };
         checks.extend(checks_of(&probe, &solve, tol_k0, tol_q));
         // The same resonance at another m: the (2l + 1)-fold degeneracy.
         if let Some((first, earlier)) = done.iter().find(|(q, _)| {
