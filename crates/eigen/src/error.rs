@@ -45,6 +45,16 @@ pub enum EigenError {
     /// faer reported an allocation or index failure.
     #[error("linear algebra backend failed: {0}")]
     Backend(String),
+    /// An ARPACK routine returned a non-zero `info` (feature `arpack`; the codes are
+    /// listed in the routine's documentation in ARPACK's source).
+    #[cfg(feature = "arpack")]
+    #[error("ARPACK {routine} failed with info = {info}")]
+    Arpack {
+        /// `znaupd` or `zneupd`
+        routine: &'static str,
+        /// ARPACK's error code
+        info: i32,
+    },
     /// Reading or writing a MatrixMarket file failed.
     #[error("I/O error on {path}: {source}")]
     Io {

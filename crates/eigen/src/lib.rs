@@ -18,6 +18,10 @@
 //! - static (gradient) pairs below `static_below` are set aside and the solve is
 //!   repeated once with room for them.
 //!
+//! With the cargo feature `arpack` (off by default; needs the system libarpack),
+//! [`arpack::solve_near_arpack`] runs ARPACK's implicitly restarted Arnoldi method on the
+//! same shift-invert operator, as an independent check of the default path.
+//!
 //! ```
 //! use twistmode_eigen::{c64, model, solve_near, SolveOptions};
 //! let pencil = model::laplacian_2d_dirichlet(10);
@@ -26,6 +30,8 @@
 //! ```
 #![deny(missing_docs)]
 
+#[cfg(feature = "arpack")]
+pub mod arpack;
 mod error;
 mod matrix_market;
 pub mod model;

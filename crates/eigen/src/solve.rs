@@ -122,9 +122,22 @@ pub fn solve_near(
     sigma: c64,
     opts: &SolveOptions,
 ) -> Result<Spectrum, EigenError> {
+    solve_near_with(pencil, sigma, opts, |op, sigma, opts| {
+        op.solve_near(sigma, opts)
+    })
+}
+
+/// Equilibrates `pencil`, runs `solve` on a shift-invert operator of the scaled pencil
+/// and maps the pairs back with true residuals on `pencil` as given.
+pub(crate) fn solve_near_with(
+    pencil: &Pencil,
+    sigma: c64,
+    opts: &SolveOptions,
+    solve: impl FnOnce(&mut ShiftInvert<'_>, c64, &SolveOptions) -> Result<Spectrum, EigenError>,
+) -> Result<Spectrum, EigenError> {
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
     let mut op = ShiftInvert::try_new(&scaled.pencil)?;
-    let mut spectrum = op.solve_near(sigma, opts)?;
+    let mut spectrum = solve(&mut op, sigma, opts)?;
     restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs);
     let failing = spectrum.pairs.iter().filter(|p| !p.converged).count();
     if failing > 0 && spectrum.status == Status::Converged {
@@ -162,6 +175,21 @@ impl ShiftInvert<'_> {
         report: &FactorReport,
         opts: &SolveOptions,
     ) -> Result<Spectrum, EigenError> {
+        self.solve_factored_with(requested_sigma, report, opts, |sigma, want| {
+            self.krylov_schur(sigma, want, opts)
+        })
+    }
+
+    /// Runs `find(shift, want)` (an iterative eigensolver on this operator, returning
+    /// residual-checked pairs and whether all `want` were found), repeats it once with
+    /// room for static pairs if they took slots, then sorts, truncates and reports.
+    pub(crate) fn solve_factored_with(
+        &self,
+        requested_sigma: c64,
+        report: &FactorReport,
+        opts: &SolveOptions,
+        mut find: impl FnMut(c64, usize) -> Result<(Vec<EigenPair>, bool), EigenError>,
+    ) -> Result<Spectrum, EigenError> {
         check_options(self.dim(), opts)?;
         let start = Instant::now();
         let applications_before = self.applications.load(AtomicOrdering::Relaxed);
@@ -169,7 +197,7 @@ impl ShiftInvert<'_> {
         let mut want = opts.count.min(n);
         let mut result;
         loop {
-            result = self.krylov_schur(report.sigma, want, opts)?;
+            result = find(report.sigma, want)?;
             let static_dropped = result
                 .0
                 .iter()
@@ -243,20 +271,8 @@ impl ShiftInvert<'_> {
         opts: &SolveOptions,
     ) -> Result<(Vec<EigenPair>, bool), EigenError> {
         let n = self.dim();
-        let mut v0 = Col::<c64>::zeros(n);
-        match &opts.start {
-            Some(s) => {
-                for i in 0..n {
-                    v0[i] = s[i];
-                }
-            }
-            None => {
-                let mut state = 0x2545_F491_4F6C_DD1Du64;
-                for i in 0..n {
-                    v0[i] = c64::new(next_uniform(&mut state), next_uniform(&mut state));
-                }
-            }
-        }
+        let start = start_vector(n, opts);
+        let v0 = Col::<c64>::from_fn(n, |i| start[i]);
         // Scale of the operator's dominant eigenvalues: a few power steps. faer's locking
         // test is absolute, so the Krylov tolerance is taken relative to this scale.
         let mut x = Mat::<c64>::zeros(n, 1);
@@ -360,10 +376,23 @@ impl ShiftInvert<'_> {
     }
 }
 
+/// The starting vector of a Krylov method: `opts.start`, or a fixed pseudo-random one.
+pub(crate) fn start_vector(n: usize, opts: &SolveOptions) -> Vec<c64> {
+    match &opts.start {
+        Some(s) => s.clone(),
+        None => {
+            let mut state = 0x2545_F491_4F6C_DD1Du64;
+            (0..n)
+                .map(|_| c64::new(next_uniform(&mut state), next_uniform(&mut state)))
+                .collect()
+        }
+    }
+}
+
 /// Krylov-Schur locking tolerance relative to the operator's dominant eigenvalue.
 const KRYLOV_RELATIVE_TOL: f64 = 1e-14;
 
-fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenError> {
+pub(crate) fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenError> {
     if opts.count == 0 {
         return Err(EigenError::InvalidOption("count must be at least 1".into()));
     }
@@ -398,7 +427,7 @@ pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> f64 {
     residual_from(&kx, &mx, lambda)
 }
 
-fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
+pub(crate) fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
     let r: f64 = kx
         .iter()
         .zip(mx)

@@ -1,54 +1,10 @@
 //! Accuracy and behaviour of the eigen engine against outside references.
 
-use std::path::PathBuf;
+mod common;
 
+use common::*;
 use twistmode_eigen::model::{laplacian_2d_dirichlet, laplacian_2d_dirichlet_eigenvalues};
 use twistmode_eigen::*;
-
-fn fixture(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
-
-/// Exact values sorted by distance to `sigma`, first `count`.
-fn nearest(exact: &[c64], sigma: c64, count: usize) -> Vec<c64> {
-    let mut e = exact.to_vec();
-    e.sort_by(|a, b| (a - sigma).norm().total_cmp(&(b - sigma).norm()));
-    e.truncate(count);
-    e
-}
-
-/// Every computed value matches a distinct exact one (a one-to-one matching), i.e. the
-/// returned set is exactly the nearest `count` with multiplicity: none skipped.
-fn assert_same_multiset(found: &[c64], expected: &[c64], rel: f64) {
-    assert_eq!(
-        found.len(),
-        expected.len(),
-        "found {found:?}\nexpected {expected:?}"
-    );
-    let mut used = vec![false; expected.len()];
-    for f in found {
-        let hit = expected
-            .iter()
-            .enumerate()
-            .filter(|(i, e)| !used[*i] && (*f - **e).norm() <= rel * e.norm().max(1.0))
-            .map(|(i, _)| i)
-            .next();
-        match hit {
-            Some(i) => used[i] = true,
-            None => panic!("{f} matches no unused expected value in {expected:?}"),
-        }
-    }
-}
-
-fn lambdas(s: &Spectrum) -> Vec<c64> {
-    s.pairs.iter().map(|p| p.lambda).collect()
-}
-
-fn real(v: &[f64]) -> Vec<c64> {
-    v.iter().map(|&x| c64::new(x, 0.0)).collect()
-}
 
 #[test]
 fn laplacian_interior_shift_finds_nearest_pairs_with_degeneracies() {
@@ -102,35 +58,7 @@ fn laplacian_interior_shift_finds_nearest_pairs_with_degeneracies() {
 #[test]
 fn random_complex_pencil_matches_dense_qz() {
     // Fixture: tools/eigen_fixtures.py (scipy.linalg.eig, LAPACK QZ on the dense pencil).
-    let text = std::fs::read_to_string(fixture("random_pencil.json")).unwrap();
-    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
-    let n = json["n"].as_u64().unwrap() as usize;
-    let trip = |key: &str| -> Vec<(usize, usize, c64)> {
-        json[key]
-            .as_array()
-            .unwrap()
-            .iter()
-            .map(|t| {
-                let t = t.as_array().unwrap();
-                (
-                    t[0].as_u64().unwrap() as usize,
-                    t[1].as_u64().unwrap() as usize,
-                    c64::new(t[2].as_f64().unwrap(), t[3].as_f64().unwrap()),
-                )
-            })
-            .collect()
-    };
-    let pencil = Pencil::try_new(
-        sparse_from_triplets(n, n, &trip("k")).unwrap(),
-        sparse_from_triplets(n, n, &trip("m")).unwrap(),
-    )
-    .unwrap();
-    let exact: Vec<c64> = json["eigenvalues"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|z| c64::new(z[0].as_f64().unwrap(), z[1].as_f64().unwrap()))
-        .collect();
+    let (pencil, exact) = random_pencil();
     for sigma in [c64::new(5.0, 0.3), c64::new(2.0, -0.5)] {
         let opts = SolveOptions {
             count: 12,
@@ -306,21 +234,9 @@ fn symbolic_analysis_is_reused_across_shifts_and_orderings_agree() {
 fn matrix_market_round_trip_and_scipy_file() {
     // Fixture: tools/eigen_fixtures.py (K written by scipy.io.mmwrite, and its triplets).
     let k = read_matrix_market(&fixture("scipy_written.mtx")).unwrap();
-    let text = std::fs::read_to_string(fixture("random_pencil.json")).unwrap();
-    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let json = random_pencil_json();
     let n = json["n"].as_u64().unwrap() as usize;
-    let t: Vec<(usize, usize, c64)> = json["k"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|t| {
-            (
-                t[0].as_u64().unwrap() as usize,
-                t[1].as_u64().unwrap() as usize,
-                c64::new(t[2].as_f64().unwrap(), t[3].as_f64().unwrap()),
-            )
-        })
-        .collect();
+    let t = triplets(&json, "k");
     let expected = sparse_from_triplets(n, n, &t).unwrap();
     assert_eq!(k.as_ref().compute_nnz(), expected.as_ref().compute_nnz());
     let dense_a = k.as_ref().to_dense();
