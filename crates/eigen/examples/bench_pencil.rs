@@ -4,7 +4,10 @@
 //!
 //! ```text
 //! cargo run --release -p twistmode-eigen --example bench_pencil -- [CELLS] [--no-scipy] [--orderings]
+//! cargo run --release -p twistmode-eigen --features arpack --example bench_pencil -- [CELLS] --arpack
 //! ```
+//! `--arpack` (feature `arpack`) also runs ARPACK on the same shift-invert operator and
+//! compares its eigenvalues with ours.
 //! CELLS = 501 gives 500^2 = 250 000 unknowns. Run from the workspace root (the scipy
 //! reference is `tools/eigs_reference.py`).
 
@@ -25,6 +28,55 @@ fn peak_memory_mib() -> f64 {
             })
         })
         .map_or(f64::NAN, |kib| kib / 1024.0)
+}
+
+/// Worst relative distance from each of `ours` to the nearest of `theirs`.
+fn worst_relative_difference(ours: &[c64], theirs: &[c64]) -> f64 {
+    ours.iter()
+        .map(|p| {
+            theirs
+                .iter()
+                .map(|q| (p - q).norm() / q.norm())
+                .fold(f64::INFINITY, f64::min)
+        })
+        .fold(0.0, f64::max)
+}
+
+#[cfg(feature = "arpack")]
+fn arpack_cross_check(
+    op: &mut ShiftInvert<'_>,
+    sigma: c64,
+    opts: &SolveOptions,
+    ours: &[twistmode_eigen::EigenPair],
+) {
+    let t = Instant::now();
+    let a = op.solve_near_arpack(sigma, opts).expect("ARPACK solve");
+    let seconds = t.elapsed().as_secs_f64();
+    let worst_residual = a.pairs.iter().map(|p| p.residual).fold(0.0, f64::max);
+    let ours: Vec<c64> = ours.iter().map(|p| p.lambda).collect();
+    let theirs: Vec<c64> = a.pairs.iter().map(|p| p.lambda).collect();
+    println!(
+        "ARPACK (same operator): status {:?}, {} pairs, total {:.2} s (factor {:.2}, iterations {:.2}), \
+         {} operator applications, worst residual {:.1e}, worst relative eigenvalue difference to ours {:.1e}",
+        a.status,
+        a.pairs.len(),
+        seconds,
+        a.stats.factor_seconds,
+        a.stats.iteration_seconds,
+        a.stats.operator_applications,
+        worst_residual,
+        worst_relative_difference(&ours, &theirs)
+    );
+}
+
+#[cfg(not(feature = "arpack"))]
+fn arpack_cross_check(
+    _: &mut ShiftInvert<'_>,
+    _: c64,
+    _: &SolveOptions,
+    _: &[twistmode_eigen::EigenPair],
+) {
+    println!("--arpack needs the cargo feature `arpack` (add --features arpack)");
 }
 
 fn main() {
@@ -75,6 +127,9 @@ fn main() {
             p.lambda.re, p.lambda.im, p.residual
         );
     }
+    if args.iter().any(|a| a == "--arpack") {
+        arpack_cross_check(&mut op, sigma, &opts, &s.pairs);
+    }
     if !with_scipy {
         return;
     }
@@ -112,16 +167,8 @@ fn main() {
         .iter()
         .map(|z| c64::new(z[0].as_f64().unwrap(), z[1].as_f64().unwrap()))
         .collect();
-    let worst = s
-        .pairs
-        .iter()
-        .map(|p| {
-            theirs
-                .iter()
-                .map(|q| (p.lambda - q).norm() / q.norm())
-                .fold(f64::INFINITY, f64::min)
-        })
-        .fold(0.0, f64::max);
+    let found: Vec<c64> = s.pairs.iter().map(|p| p.lambda).collect();
+    let worst = worst_relative_difference(&found, &theirs);
     println!(
         "scipy eigs: {:.2} s (load excluded), worst relative eigenvalue difference {:.1e}",
         scipy_seconds, worst
