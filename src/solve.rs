@@ -333,12 +333,22 @@ pub fn find_eigenpairs(
     system: &AssembledSystem,
     tolerance: f64,
 ) -> Result<Spectrum, SolveError> {
+    // A few more than asked for: PML and box modes are dropped afterwards.
+    find_pairs(case, system, tolerance, case.search.count + 4)
+}
+
+/// [`find_eigenpairs`] with an explicit number of pairs.
+fn find_pairs(
+    case: &Case,
+    system: &AssembledSystem,
+    tolerance: f64,
+    count: usize,
+) -> Result<Spectrum, SolveError> {
     let k0 = case.search.k0();
     let sigma = Complex64::new(k0 * k0, 0.0);
     let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
     let opts = SolveOptions {
-        // A few more than asked for: PML and box modes are dropped afterwards.
-        count: case.search.count + 4,
+        count: count.min(system.stiffness.nrows()),
         tol: tolerance,
         static_below: 1e-6 * sigma.norm(),
         ..SolveOptions::default()
@@ -551,28 +561,45 @@ pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome,
     let problem = SectionProblem::try_new(&mesh, setup)?;
     let system = problem.assemble(mode_order(case))?;
     let assembly_seconds = start.elapsed().as_secs_f64();
-    let spectrum = find_eigenpairs(case, &system, settings.tolerance)?;
-    let summary = system.summary();
-    let mut solver = SolverFacts {
-        dofs_full: summary.full,
-        dofs: summary.reduced,
-        dofs_constrained: summary.constrained_transverse + summary.constrained_third,
-        static_modes: summary.gradient_space,
-        pattern_nnz: spectrum.stats.pattern_nnz,
-        fill_nnz: spectrum.stats.fill_nnz,
-        shift: [spectrum.shift.re, spectrum.shift.im],
-        nudged_from: spectrum.nudged_from.map(|s| [s.re, s.im]),
-        status: status_text(&spectrum.status),
-        static_dropped: spectrum.static_dropped,
-        pml_dropped: 0,
-        box_dropped: 0,
-        assembly_seconds,
-        factor_seconds: spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
-        iteration_seconds: spectrum.stats.iteration_seconds,
-        shortfall: None,
+    // Ask for a few more pairs than modes wanted; when PML, box or static
+    // modes crowd the wanted ones out, ask once more for twice as many
+    // (large requests make the Krylov-Schur iteration slow: see the
+    // shortfall note instead of asking without bound).
+    let mut ask = case.search.count + 4;
+    let mut tries = 0;
+    let (mut factor_seconds, mut iteration_seconds) = (0.0, 0.0);
+    let (spectrum, mut solver, modes, nodal_fields) = loop {
+        let spectrum = find_pairs(case, &system, settings.tolerance, ask)?;
+        factor_seconds += spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds;
+        iteration_seconds += spectrum.stats.iteration_seconds;
+        let summary = system.summary();
+        let mut solver = SolverFacts {
+            dofs_full: summary.full,
+            dofs: summary.reduced,
+            dofs_constrained: summary.constrained_transverse + summary.constrained_third,
+            static_modes: summary.gradient_space,
+            pattern_nnz: spectrum.stats.pattern_nnz,
+            fill_nnz: spectrum.stats.fill_nnz,
+            shift: [spectrum.shift.re, spectrum.shift.im],
+            nudged_from: spectrum.nudged_from.map(|s| [s.re, s.im]),
+            status: status_text(&spectrum.status),
+            static_dropped: spectrum.static_dropped,
+            pml_dropped: 0,
+            box_dropped: 0,
+            assembly_seconds,
+            factor_seconds,
+            iteration_seconds,
+            shortfall: None,
+        };
+        let (modes, nodal_fields) =
+            describe_modes(case, &problem, &system, &spectrum, settings, &mut solver);
+        tries += 1;
+        let more_exist = spectrum.pairs.len() >= ask && ask < system.stiffness.nrows();
+        if modes.len() >= case.search.count || !more_exist || tries == 2 {
+            break (spectrum, solver, modes, nodal_fields);
+        }
+        ask *= 2;
     };
-    let (modes, nodal_fields) =
-        describe_modes(case, &problem, &system, &spectrum, settings, &mut solver);
     if modes.len() < case.search.count {
         solver.shortfall = Some(format!(
             "found {} of the {} modes asked for: the eigensolver returned {} pairs nearest the \
