@@ -61,8 +61,9 @@ fn every_kept_mode_is_a_mie_resonance() {
     }
 }
 
-/// Refinement study of the bench (n = 2, l = 30, TE, p = 1, m = 30):
-/// minutes, so ignored; run with
+/// Refinement study of the bench (n = 2, l = 30, TE, p = 1, m = 30;
+/// SPHERE_N, SPHERE_L, SPHERE_KIND, SPHERE_M, SPHERE_ORDER, SPHERE_PML
+/// (wavelengths) probe other p = 1 resonances): minutes, so ignored; run with
 /// `SPHERE_RESOLUTION=12 cargo test --release --test validate_sphere -- --ignored --nocapture`.
 #[test]
 #[ignore]
@@ -79,9 +80,21 @@ fn bench_l30_refinement() {
         .ok()
         .and_then(|s| s.parse().ok())
         .unwrap_or(30);
-    let mut probe = SphereProbe::new(2.0, l, 1, SpherePolarization::Te, l as i32);
+    let env = |key: &str, default: f64| -> f64 {
+        std::env::var(key)
+            .ok()
+            .and_then(|s| s.parse().ok())
+            .unwrap_or(default)
+    };
+    let polarization = match std::env::var("SPHERE_KIND").as_deref() {
+        Ok("TM") => SpherePolarization::Tm,
+        _ => SpherePolarization::Te,
+    };
+    let m = env("SPHERE_M", f64::from(l)) as i32;
+    let mut probe = SphereProbe::new(env("SPHERE_N", 2.0), l, 1, polarization, m);
     probe.resolution = resolution;
     probe.order = order;
+    probe.pml_wavelengths = env("SPHERE_PML", 0.5);
     let solve = sphere::solve_probe(&probe).expect("solve");
     let e = solve.exact.k0a;
     let peak = std::fs::read_to_string("/proc/self/status")
