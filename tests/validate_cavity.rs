@@ -11,22 +11,7 @@ use twistmode::validate::Level;
 #[test]
 fn cavity_checks_pass_at_the_quick_level() {
     let checks = cavity::run(Level::Quick).expect("cavity validation runs");
-    println!(
-        "{:<58} {:<70} {:>16} {:>16} {:>9} {:>7}",
-        "problem", "quantity", "computed", "exact", "rel.err", "tol"
-    );
-    for c in &checks {
-        println!(
-            "{:<58} {:<70.70} {:>16.10e} {:>16.10e} {:>9.2e} {:>7.0e} {}",
-            c.problem,
-            c.quantity,
-            c.computed,
-            c.exact,
-            c.rel_error,
-            c.tolerance,
-            if c.passed() { "ok" } else { "FAILED" }
-        );
-    }
+    print!("{}", twistmode::validate::checks_table(&checks).to_text());
     let failed: Vec<_> = checks.iter().filter(|c| !c.passed()).collect();
     assert!(failed.is_empty(), "failed checks: {failed:#?}");
 

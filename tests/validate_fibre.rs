@@ -4,20 +4,7 @@
 use twistmode::validate::{fibre, Check, Level};
 
 fn print_table(checks: &[Check]) {
-    for c in checks {
-        println!(
-            "{:<58} {:<36} computed {:.12e} exact {:.12e} rel {:.2e} tol {:.0e} {} dofs {} {:.2}s",
-            c.problem,
-            c.quantity,
-            c.computed,
-            c.exact,
-            c.rel_error,
-            c.tolerance,
-            if c.passed() { "ok" } else { "FAIL" },
-            c.dofs,
-            c.seconds
-        );
-    }
+    print!("{}", twistmode::validate::checks_table(checks).to_text());
 }
 
 #[test]

@@ -8,24 +8,7 @@ use twistmode::validate::{Check, Level};
 use twistmode_reference::SpherePolarization;
 
 fn print_table(checks: &[Check]) {
-    println!(
-        "{:<40} {:<62} {:>16} {:>16} {:>9} {:>8} {:>7} {:>6}",
-        "problem", "quantity", "computed", "exact", "rel err", "tol", "dofs", "s"
-    );
-    for c in checks {
-        println!(
-            "{:<40} {:<62} {:>16.10} {:>16.10} {:>9.2e} {:>8.0e} {:>7} {:>6.1} {}",
-            c.problem,
-            c.quantity,
-            c.computed,
-            c.exact,
-            c.rel_error,
-            c.tolerance,
-            c.dofs,
-            c.seconds,
-            if c.passed() { "ok" } else { "FAILED" }
-        );
-    }
+    print!("{}", twistmode::validate::checks_table(checks).to_text());
 }
 
 #[test]

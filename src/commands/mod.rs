@@ -175,32 +175,7 @@ fn validate(args: &ValidateArgs) -> Result<()> {
         eprintln!("validating: {name} ({level:?})");
         checks.extend(run(level)?);
     }
-    let mut table = twistmode_io::output::Table::new([
-        "problem",
-        "quantity",
-        "computed",
-        "exact",
-        "rel. error",
-        "tolerance",
-        "ok",
-        "unknowns",
-        "seconds",
-        "source",
-    ]);
-    for c in &checks {
-        table.try_push_row([
-            c.problem.clone(),
-            c.quantity.clone(),
-            format!("{:.12e}", c.computed),
-            format!("{:.12e}", c.exact),
-            format!("{:.2e}", c.rel_error),
-            format!("{:.0e}", c.tolerance),
-            if c.passed() { "yes" } else { "NO" }.to_string(),
-            c.dofs.to_string(),
-            format!("{:.2}", c.seconds),
-            c.source.clone(),
-        ])?;
-    }
+    let table = twistmode::validate::checks_table(&checks);
     print!("{}", table.to_text());
     twistmode_io::output::write_json(&args.out.join("validation.json"), &checks)?;
     table.write_csv(&args.out.join("validation.csv"))?;

@@ -75,3 +75,36 @@ impl Check {
         self.rel_error <= self.tolerance
     }
 }
+
+/// The checks as a table (text for the screen and tests, CSV for files).
+pub fn checks_table(checks: &[Check]) -> twistmode_io::output::Table {
+    let mut table = twistmode_io::output::Table::new([
+        "problem",
+        "quantity",
+        "computed",
+        "exact",
+        "rel. error",
+        "tolerance",
+        "ok",
+        "unknowns",
+        "seconds",
+        "source",
+    ]);
+    for c in checks {
+        table
+            .try_push_row([
+                c.problem.clone(),
+                c.quantity.clone(),
+                format!("{:.12e}", c.computed),
+                format!("{:.12e}", c.exact),
+                format!("{:.2e}", c.rel_error),
+                format!("{:.0e}", c.tolerance),
+                if c.passed() { "yes" } else { "NO" }.to_string(),
+                c.dofs.to_string(),
+                format!("{:.2}", c.seconds),
+                c.source.clone(),
+            ])
+            .expect("one cell per column");
+    }
+    table
+}
