@@ -39,6 +39,15 @@ pub enum SolveError {
     /// The case file is invalid.
     #[error("{0}")]
     Case(#[from] twistmode_io::case::CaseError),
+    /// A result file could not be written.
+    #[error("output: {0}")]
+    Output(#[from] twistmode_io::output::OutputError),
+    /// An exact reference value could not be computed (validation).
+    #[error("reference: {0}")]
+    Reference(#[from] twistmode_reference::ReferenceError),
+    /// A validation or sweep run could not produce what it compares.
+    #[error("{0}")]
+    Incomplete(String),
 }
 
 /// Knobs of a solve that are not part of the physical case.

@@ -106,7 +106,7 @@ pub fn run_sweep(
 ) -> Result<SweepOutcome, SolveError> {
     let points_dir = dir.join("points");
     std::fs::create_dir_all(&points_dir).map_err(|e| {
-        SolveError::Unsupported(format!("cannot create {}: {e}", points_dir.display()))
+        SolveError::Incomplete(format!("cannot create {}: {e}", points_dir.display()))
     })?;
     let mut print = String::from(case_text);
     for (k, v) in fixed {
@@ -143,8 +143,7 @@ pub fn run_sweep(
                         .map(|m: &ModeReport| (m.label.clone(), m.frequency_hz[0], m.q))
                         .collect(),
                 };
-                twistmode_io::output::write_json(&path, &p)
-                    .map_err(|e| SolveError::Unsupported(e.to_string()))?;
+                twistmode_io::output::write_json(&path, &p)?;
                 solved += 1;
                 p
             }

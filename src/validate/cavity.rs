@@ -113,7 +113,7 @@ near_frequency = "10 GHz"
 }
 
 fn reference_error(e: twistmode_reference::ReferenceError) -> SolveError {
-    SolveError::Unsupported(format!("exact resonances: {e}"))
+    SolveError::Reference(e)
 }
 
 /// The computed resonances of one cavity on one mesh.

@@ -304,7 +304,7 @@ fn solve_k0(
     search: &[Window],
 ) -> Result<Found, SolveError> {
     let MeshSource::Generate(mut spec) = case.mesh_source()? else {
-        return Err(SolveError::Unsupported(
+        return Err(SolveError::Incomplete(
             "fibre cases use the generator".into(),
         ));
     };
@@ -552,12 +552,12 @@ pub fn bent_fibre_errors(
     radii_um: &[f64],
     resolution: f64,
 ) -> Result<Vec<(f64, f64, usize, f64)>, SolveError> {
-    let fibre = StepIndexFibre::try_new(BENT_CORE_UM * 1e-6, 2.0, 1.0)
-        .map_err(|e| SolveError::Unsupported(format!("exact fibre: {e}")))?;
+    let fibre =
+        StepIndexFibre::try_new(BENT_CORE_UM * 1e-6, 2.0, 1.0).map_err(SolveError::Reference)?;
     let k0_design = 2.0 * std::f64::consts::PI / 1.55e-6;
     let n_design = fibre
         .n_eff(FibreModeKind::He, 1, 1, k0_design)
-        .map_err(|e| SolveError::Unsupported(format!("exact fibre: {e}")))?
+        .map_err(SolveError::Reference)?
         .expect("HE11 is always guided");
     let mut out = Vec::new();
     for &r_um in radii_um {
@@ -599,7 +599,7 @@ count = 2
         let seconds = start.elapsed().as_secs_f64();
         let mut worst: f64 = 0.0;
         if outcome.modes.len() < 2 {
-            return Err(SolveError::Unsupported(format!(
+            return Err(SolveError::Incomplete(format!(
                 "bent fibre at R = {r_um} um: found {} of its two fundamental modes",
                 outcome.modes.len()
             )));
@@ -609,7 +609,7 @@ count = 2
             let n_ring = m / (r * k0);
             let n_fibre = fibre
                 .n_eff(FibreModeKind::He, 1, 1, k0)
-                .map_err(|e| SolveError::Unsupported(format!("exact fibre: {e}")))?
+                .map_err(SolveError::Reference)?
                 .expect("HE11 is always guided");
             worst = worst.max((n_ring - n_fibre).abs());
         }

@@ -172,7 +172,7 @@ pub fn exact_resonance(probe: &SphereProbe) -> Result<MieResonance, SolveError> 
 }
 
 fn reference(e: twistmode_reference::ReferenceError) -> SolveError {
-    SolveError::Unsupported(format!("exact sphere resonance: {e}"))
+    SolveError::Reference(e)
 }
 
 /// The case file text of a probe, targeting the exact `Re k0`.
@@ -259,7 +259,7 @@ pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, SolveError> {
                 .total_cmp(&(y.1 - exact.k0a).norm())
         })
         .ok_or_else(|| {
-            SolveError::Unsupported(format!("{}: the solve kept no mode", probe.name()))
+            SolveError::Incomplete(format!("{}: the solve kept no mode", probe.name()))
         })?;
     let mode = &outcome.modes[best];
     let radial_share = radial_share(&outcome.mesh, &outcome.nodal_fields[best], metres);
