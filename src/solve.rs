@@ -343,15 +343,17 @@ pub fn find_eigenpairs(
     tolerance: f64,
 ) -> Result<Spectrum, SolveError> {
     // A few more than asked for: PML and box modes are dropped afterwards.
-    find_pairs(case, system, tolerance, case.search.count + 4)
+    find_pairs(case, system, tolerance, case.search.count + 4, |_| None)
 }
 
-/// [`find_eigenpairs`] with an explicit number of pairs.
+/// [`find_eigenpairs`] with an explicit number of pairs; `more` may ask for
+/// more pairs after each solve, which then reuses the factorisation.
 fn find_pairs(
     case: &Case,
     system: &AssembledSystem,
     tolerance: f64,
     count: usize,
+    more: impl FnMut(&Spectrum) -> Option<usize>,
 ) -> Result<Spectrum, SolveError> {
     let k0 = case.search.k0();
     let sigma = Complex64::new(k0 * k0, 0.0);
@@ -362,7 +364,9 @@ fn find_pairs(
         static_below: 1e-6 * sigma.norm(),
         ..SolveOptions::default()
     };
-    Ok(twistmode_eigen::solve_near(&pencil, sigma, &opts)?)
+    Ok(twistmode_eigen::solve_near_growing(
+        &pencil, sigma, &opts, more,
+    )?)
 }
 
 /// Bounding box `[u_min, u_max, v_min, v_max]` of the body regions.
@@ -576,10 +580,9 @@ pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome,
     // shortfall note instead of asking without bound).
     let mut ask = case.search.count + 4;
     let mut tries = 0;
-    let (mut factor_seconds, mut iteration_seconds) = (0.0, 0.0);
-    let (spectrum, mut solver, modes, nodal_fields) = loop {
-        let spectrum = find_pairs(case, &system, settings.tolerance, ask)?;
-        factor_seconds += spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds;
+    let mut iteration_seconds = 0.0;
+    let mut described = None;
+    let spectrum = find_pairs(case, &system, settings.tolerance, ask, |spectrum| {
         iteration_seconds += spectrum.stats.iteration_seconds;
         let summary = system.summary();
         let mut solver = SolverFacts {
@@ -596,19 +599,25 @@ pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome,
             pml_dropped: 0,
             box_dropped: 0,
             assembly_seconds,
-            factor_seconds,
+            // One analysis and factorisation serve every try.
+            factor_seconds: spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
             iteration_seconds,
             shortfall: None,
         };
         let (modes, nodal_fields) =
-            describe_modes(case, &problem, &system, &spectrum, settings, &mut solver);
+            describe_modes(case, &problem, &system, spectrum, settings, &mut solver);
         tries += 1;
         let more_exist = spectrum.pairs.len() >= ask && ask < system.stiffness.nrows();
-        if modes.len() >= case.search.count || !more_exist || tries == 2 {
-            break (spectrum, solver, modes, nodal_fields);
+        let done = modes.len() >= case.search.count || !more_exist || tries == 2;
+        described = Some((solver, modes, nodal_fields));
+        if done {
+            None
+        } else {
+            ask *= 2;
+            Some(ask)
         }
-        ask *= 2;
-    };
+    })?;
+    let (mut solver, modes, nodal_fields) = described.expect("the solve reports at least once");
     if modes.len() < case.search.count {
         solver.shortfall = Some(format!(
             "found {} of the {} modes asked for: the eigensolver returned {} pairs nearest the \

@@ -45,7 +45,10 @@ pub use faer::c64;
 pub use matrix_market::{read_matrix_market, write_matrix_market};
 pub use model::sparse_from_triplets;
 pub use shift_invert::{FactorReport, FillOrdering, Pencil, ShiftInvert};
-pub use solve::{relative_residual, solve_near, EigenPair, SolveOptions, Spectrum, Stats, Status};
+pub use solve::{
+    relative_residual, solve_near, solve_near_growing, EigenPair, SolveOptions, Spectrum, Stats,
+    Status,
+};
 pub use window::{
     merge_duplicates, solve_window, ShiftOutcome, ShiftSpacing, Window, WindowSpectrum,
 };

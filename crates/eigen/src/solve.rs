@@ -138,12 +138,50 @@ pub(crate) fn solve_near_with(
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
     let mut op = ShiftInvert::try_new(&scaled.pencil)?;
     let mut spectrum = solve(&mut op, sigma, opts)?;
-    restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs);
+    restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+    Ok(spectrum)
+}
+
+/// Like [`solve_near`], but after each solve `more(&spectrum)` may ask for a
+/// larger number of pairs; the next solve then reuses the same equilibration,
+/// symbolic analysis and factorisation (only the Krylov-Schur iteration is
+/// repeated). Stops when `more` returns `None` or a count not above the last.
+pub fn solve_near_growing(
+    pencil: &Pencil,
+    sigma: c64,
+    opts: &SolveOptions,
+    mut more: impl FnMut(&Spectrum) -> Option<usize>,
+) -> Result<Spectrum, EigenError> {
+    let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
+    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    check_options(op.dim(), opts)?;
+    let report = op.factor(sigma)?;
+    let mut opts = opts.clone();
+    loop {
+        let mut spectrum = op.solve_factored(sigma, &report, &opts)?;
+        restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+        match more(&spectrum) {
+            Some(count) if count > opts.count && opts.count < op.dim() => {
+                opts.count = count.min(op.dim())
+            }
+            _ => return Ok(spectrum),
+        }
+    }
+}
+
+/// Maps a spectrum of an equilibrated pencil back to `pencil`: vectors,
+/// true residuals, and the status when pairs fail the residual test.
+fn restore_spectrum(
+    pencil: &Pencil,
+    scaled: &crate::scaling::Equilibrated,
+    tol: f64,
+    spectrum: &mut Spectrum,
+) {
+    restore_pairs(pencil, scaled, tol, &mut spectrum.pairs);
     let failing = spectrum.pairs.iter().filter(|p| !p.converged).count();
     if failing > 0 && spectrum.status == Status::Converged {
         spectrum.status = Status::ResidualAboveTolerance { failing };
     }
-    Ok(spectrum)
 }
 
 /// Maps pairs of an equilibrated pencil back to `pencil`, with true residuals.

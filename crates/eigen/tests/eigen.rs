@@ -340,3 +340,32 @@ fn badly_scaled_pencil_is_equilibrated() {
         );
     }
 }
+
+/// Asking again for more pairs reuses the factorisation and finds the
+/// superset. Source: the exact 2D Dirichlet Laplacian eigenvalues (standard
+/// finite-difference analysis), as above.
+#[test]
+fn growing_request_reuses_the_factorisation() {
+    let pencil = laplacian_2d_dirichlet(20);
+    let exact = laplacian_2d_dirichlet_eigenvalues(20);
+    let sigma = c64::new(500.0, 0.0);
+    let opts = SolveOptions {
+        count: 4,
+        ..SolveOptions::default()
+    };
+    let mut calls = Vec::new();
+    let spectrum = solve_near_growing(&pencil, sigma, &opts, |s| {
+        calls.push(s.pairs.len());
+        (calls.len() == 1).then_some(10)
+    })
+    .unwrap();
+    assert_eq!(calls, vec![4, 10]);
+    let mut nearest = exact.clone();
+    nearest.sort_by(|a, b| (a - 500.0).abs().total_cmp(&(b - 500.0).abs()));
+    for p in &spectrum.pairs {
+        assert!(p.converged);
+        assert!(nearest[..10]
+            .iter()
+            .any(|e| (p.lambda.re - e).abs() < 1e-8 * e));
+    }
+}
