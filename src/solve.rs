@@ -369,6 +369,17 @@ fn find_pairs(
     )?)
 }
 
+/// The radius the azimuthal phase of a ring is referred to: `body.radius`
+/// for rings, the section centre's distance from the axis for a section of
+/// revolution off the axis (a ring meshed in the half plane); `None` otherwise.
+pub fn reference_radius(case: &Case) -> Option<f64> {
+    match case.body {
+        Body::Ring { radius, .. } => Some(radius),
+        Body::Revolution if case.section.centre[0] > 0.0 => Some(case.section.centre[0]),
+        _ => None,
+    }
+}
+
 /// Bounding box `[u_min, u_max, v_min, v_max]` of the body regions.
 pub fn body_box(mesh: &Mesh) -> [f64; 4] {
     let mut b = [
@@ -450,14 +461,11 @@ fn describe_modes(
         let order = mode_order(case);
         let (m, beta, effective_index) = match case.body {
             Body::Straight { .. } => (None, Some(order), Some(order / k0.re)),
-            Body::Ring { radius, .. } => (Some(order), None, Some(order / (k0.re * radius))),
-            // A section off the axis is a ring: refer the phase to its centre.
-            Body::Revolution if case.section.centre[0] > 0.0 => (
+            _ => (
                 Some(order),
                 None,
-                Some(order / (k0.re * case.section.centre[0])),
+                reference_radius(case).map(|r| order / (k0.re * r)),
             ),
-            Body::Revolution => (Some(order), None, None),
         };
         let flags = trust_flags(&TrustInputs {
             k0_re: k0.re,

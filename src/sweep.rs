@@ -10,9 +10,9 @@ use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 use twistmode_analysis::{families, Family, FamilyMember};
-use twistmode_io::case::{Body, Case};
+use twistmode_io::case::Case;
 
-use crate::solve::{solve_case, ModeReport, SolveError, SolveSettings};
+use crate::solve::{reference_radius, solve_case, ModeReport, SolveError, SolveSettings};
 
 /// Reads the case with extra `--set` overrides.
 pub type CaseLoader<'a> = dyn Fn(&[(String, String)]) -> Result<Case, SolveError> + 'a;
@@ -83,15 +83,6 @@ fn fingerprint(text: &str) -> String {
     format!("{h:016x}")
 }
 
-/// The radius the azimuthal phase is referred to, for group indices.
-fn ring_radius(case: &Case) -> Option<f64> {
-    match case.body {
-        Body::Ring { radius, .. } => Some(radius),
-        Body::Revolution if case.section.centre[0] > 0.0 => Some(case.section.centre[0]),
-        _ => None,
-    }
-}
-
 /// Runs a sweep. `load_case(overrides)` reads the case with extra overrides
 /// (so relative paths resolve as for `solve`); `progress(done, total)` is
 /// called after each point.
@@ -125,7 +116,7 @@ pub fn run_sweep(
         let mut overrides = fixed.to_vec();
         overrides.push((plan.key.clone(), format!("{value}")));
         let case = load_case(&overrides)?;
-        radius = ring_radius(&case);
+        radius = reference_radius(&case);
         let point = match old {
             Some(p) => {
                 resumed += 1;
