@@ -107,8 +107,11 @@ pub struct SolverFacts {
     pub static_modes: usize,
     /// Stored entries of K and M (union pattern).
     pub pattern_nnz: usize,
-    /// Entries of the LU factors.
+    /// Size of the sparse factor of `K - sigma M`, in complex entries (16 bytes each).
     pub fill_nnz: usize,
+    /// The factorisation used: `symmetric-lblt` (complex-symmetric pencils: untwisted
+    /// bodies) or `lu` (any pencil).
+    pub factorisation: String,
     /// Target wavenumber squared, the shift (1/m^2).
     pub shift: [f64; 2],
     /// Where the shift had to be moved off an eigenvalue, the requested one.
@@ -357,7 +360,10 @@ fn find_pairs(
 ) -> Result<Spectrum, SolveError> {
     let k0 = case.search.k0();
     let sigma = Complex64::new(k0 * k0, 0.0);
-    let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
+    // Row signs make untwisted pencils complex-symmetric (same eigenpairs), which
+    // lets the eigen crate use its symmetric factorisation.
+    let (k, m) = system.symmetric_form();
+    let pencil = Pencil::try_new(k, m)?;
     let opts = SolveOptions {
         count: count.min(system.stiffness.nrows()),
         tol: tolerance,
@@ -600,6 +606,11 @@ pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome,
             static_modes: summary.gradient_space,
             pattern_nnz: spectrum.stats.pattern_nnz,
             fill_nnz: spectrum.stats.fill_nnz,
+            factorisation: spectrum
+                .stats
+                .factorisation
+                .map_or("unknown", |f| f.name())
+                .to_string(),
             shift: [spectrum.shift.re, spectrum.shift.im],
             nudged_from: spectrum.nudged_from.map(|s| [s.re, s.im]),
             status: status_text(&spectrum.status),

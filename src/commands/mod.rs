@@ -87,12 +87,14 @@ fn solve_and_write(
     } else {
         let s = &outcome.solver;
         println!(
-            "mesh: {} triangles (order {}), {} unknowns ({} removed by walls/axis), fill nnz(L+U) {}",
+            "mesh: {} triangles (order {}), {} unknowns ({} removed by walls/axis); factor ({}) {} complex entries, {:.0} MiB",
             outcome.mesh_facts.triangles,
             outcome.mesh_facts.order,
             s.dofs,
             s.dofs_constrained,
-            s.fill_nnz
+            s.factorisation,
+            s.fill_nnz,
+            s.fill_nnz as f64 * 16.0 / (1024.0 * 1024.0)
         );
         println!(
             "solver: {}; static pairs set aside {}, PML modes dropped {}, box modes dropped {}",

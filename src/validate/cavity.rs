@@ -191,7 +191,8 @@ pub fn solve_cavity(
             shifts: if mine.len() > 2 { 2 } else { 1 },
             spacing: ShiftSpacing::SqrtLambda,
         };
-        let pencil = Pencil::try_new(system.stiffness, system.mass)?;
+        let (stiffness, mass) = system.symmetric_form();
+        let pencil = Pencil::try_new(stiffness, mass)?;
         let opts = SolveOptions {
             count: mine.len().div_ceil(2) + 3,
             tol: EIGEN_TOLERANCE,
@@ -271,7 +272,8 @@ pub fn probe_low_end(
         let system = problem.assemble(f64::from(m))?;
         let summary = system.summary();
         let first = exact[mine[0]].k0.powi(2);
-        let pencil = Pencil::try_new(system.stiffness, system.mass)?;
+        let (stiffness, mass) = system.symmetric_form();
+        let pencil = Pencil::try_new(stiffness, mass)?;
         let mut op = ShiftInvert::try_new(&pencil)?;
         let nearest = |op: &mut ShiftInvert<'_>, at: f64, count: usize| {
             let opts = SolveOptions {

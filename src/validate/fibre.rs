@@ -316,7 +316,8 @@ fn solve_k0(
     let setup = set_up(case, &mesh)?;
     let problem = SectionProblem::try_new(&mesh, setup)?;
     let system = problem.assemble(order)?;
-    let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
+    let (k, m) = system.symmetric_form();
+    let pencil = Pencil::try_new(k, m)?;
     let mut found = Found {
         k0: Vec::new(),
         lowest: f64::INFINITY,

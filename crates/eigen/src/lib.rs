@@ -44,7 +44,9 @@ pub use error::EigenError;
 pub use faer::c64;
 pub use matrix_market::{read_matrix_market, write_matrix_market};
 pub use model::sparse_from_triplets;
-pub use shift_invert::{FactorReport, FillOrdering, Pencil, ShiftInvert};
+pub use shift_invert::{
+    FactorReport, Factorisation, FillOrdering, Pencil, ShiftInvert, REFINE_ABOVE,
+};
 pub use solve::{
     relative_residual, solve_near, solve_near_growing, EigenPair, SolveOptions, Spectrum, Stats,
     Status,

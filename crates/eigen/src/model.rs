@@ -144,3 +144,24 @@ pub fn helmholtz_p1_absorbing(cells: usize) -> Pencil {
         m: sparse_from_triplets(n, n, &mt).expect("valid triplets"),
     }
 }
+
+/// The complex-symmetric part `((K + K^T) / 2, (M + M^T) / 2)` of a pencil (not
+/// conjugated): turns [`helmholtz_p1_absorbing`] into a complex-symmetric test pencil
+/// for the symmetric factorisation.
+pub fn symmetric_part(pencil: &Pencil) -> Pencil {
+    let half = |a: &SparseColMat<usize, c64>| {
+        let r = a.as_ref();
+        let mut t = Vec::with_capacity(2 * r.compute_nnz());
+        for j in 0..a.ncols() {
+            for (i, v) in r.row_idx_of_col(j).zip(r.val_of_col(j)) {
+                t.push((i, j, *v * 0.5));
+                t.push((j, i, *v * 0.5));
+            }
+        }
+        sparse_from_triplets(a.nrows(), a.ncols(), &t).expect("valid triplets")
+    };
+    Pencil {
+        k: half(&pencil.k),
+        m: half(&pencil.m),
+    }
+}

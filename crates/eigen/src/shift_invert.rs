@@ -1,17 +1,32 @@
-//! The shift-invert operator `(K - sigma M)^{-1} M` on one sparse LU.
+//! The shift-invert operator `(K - sigma M)^{-1} M` on one sparse factorisation.
 //!
 //! ```text
-//!   try_new(pencil)  : union pattern of K and M, fill-reducing column ordering,
-//!                      column elimination tree, supernodal symbolic LU   (once)
+//!   try_new(pencil)  : union pattern of K and M, symmetry test, fill-reducing
+//!                      ordering, symbolic factorisation                  (once)
 //!   factor(sigma)    : values of K - sigma M into the kept pattern,
-//!                      numeric LU with partial pivoting, condition check (per shift)
-//!   apply(x)         : y = U^{-1} L^{-1} P (M x)                          (per Krylov step)
+//!                      numeric factorisation, condition check            (per shift)
+//!   apply(x)         : y = (K - sigma M)^{-1} (M x)                       (per Krylov step)
 //! ```
 //!
-//! faer's high-level `SymbolicLu::try_new` always orders with COLAMD. The lower-level
-//! supernodal routines take any column permutation, so the analysis here is assembled
-//! from them and the ordering is a choice ([`FillOrdering`]); measured on 2D
-//! finite-element pencils, COLAMD wins clearly and is the default.
+//! Two factorisations ([`Factorisation`]):
+//!
+//! * **Complex-symmetric pencils** (`K = K^T`, `M = M^T`, not conjugated; what the
+//!   finite-element assembler gives for untwisted bodies once the rows of the third
+//!   field component change sign) are factorised as a real symmetric indefinite matrix
+//!   of twice the size: `A = X + iY` with `X`, `Y` symmetric solves
+//!   `A (u + iv) = c + id` as
+//!   `[[X, -Y], [-Y, -X]] [u; v] = [c; -d]`, interleaved per unknown so every complex
+//!   entry becomes one symmetric 2x2 block. faer's supernodal Bunch-Kaufman `L B L^T`
+//!   (pivoting inside supernodes) factorises it under an AMD ordering of the complex
+//!   pattern. Only `L` is stored, in the Cholesky structure of `A`: on the demo pencil
+//!   55 entries per row against about 950 for the LU below (see `docs/performance.md`).
+//!   A solve whose backward error exceeds [`REFINE_ABOVE`] gets one step of iterative
+//!   refinement on the complex matrix.
+//! * **Other pencils**: one supernodal LU with partial pivoting. faer's high-level
+//!   `SymbolicLu::try_new` always orders with COLAMD. The lower-level supernodal
+//!   routines take any column permutation, so the analysis here is assembled from them
+//!   and the ordering is a choice ([`FillOrdering`]); measured on 2D finite-element
+//!   pencils, COLAMD wins clearly and is the default.
 
 use std::time::Instant;
 
@@ -19,15 +34,19 @@ use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::lu::partial_pivoting::factor::PartialPivLuParams;
 use faer::matrix_free::LinOp;
 use faer::perm::PermRef;
+use faer::sparse::linalg::cholesky::{
+    factorize_symbolic_cholesky, CholeskySymbolicParams, IntranodeLbltRef, SymbolicCholesky,
+    SymmetricOrdering,
+};
 use faer::sparse::linalg::lu::supernodal::{
     factorize_supernodal_numeric_lu, factorize_supernodal_numeric_lu_scratch,
     factorize_supernodal_symbolic_lu, factorize_supernodal_symbolic_lu_scratch,
     solve_in_place_scratch, SupernodalLu, SymbolicSupernodalLu,
 };
 use faer::sparse::linalg::matmul::sparse_dense_matmul;
-use faer::sparse::linalg::{amd, colamd, qr};
+use faer::sparse::linalg::{amd, colamd, qr, SupernodalThreshold};
 use faer::sparse::{SparseColMat, SparseColMatRef, SymbolicSparseColMatRef};
-use faer::{c64, Accum, Conj, Mat, MatMut, MatRef, Par, Spec};
+use faer::{c64, Accum, Conj, Mat, MatMut, MatRef, Par, Side, Spec};
 
 use crate::EigenError;
 
@@ -78,8 +97,36 @@ pub enum FillOrdering {
     AmdSymmetric,
 }
 
+/// Which factorisation a [`ShiftInvert`] uses.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Factorisation {
+    /// Supernodal LU with partial pivoting (any pencil).
+    Lu,
+    /// Real symmetric indefinite `L B L^T` of the doubled real form (complex-symmetric
+    /// pencils only; chosen automatically when both matrices pass the symmetry test).
+    SymmetricDoubled,
+}
+
+impl Factorisation {
+    /// A short name for reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Factorisation::Lu => "lu",
+            Factorisation::SymmetricDoubled => "symmetric-lblt",
+        }
+    }
+}
+
 /// Condition estimate above which a factorisation counts as singular (about 1/(1e4 eps)).
 const SINGULAR_CONDITION: f64 = 4.5e11;
+
+/// Backward error of a solve above which solves get one step of iterative refinement
+/// (the symmetric factorisation pivots only inside supernodes).
+pub const REFINE_ABOVE: f64 = 1e-13;
+
+/// Relative asymmetry `|a_ij - a_ji|` (against the larger of the two column maxima
+/// and the entries themselves) below which a matrix counts as complex-symmetric.
+const SYMMETRY_TOLERANCE: f64 = 1e-12;
 
 /// Shift-invert operator on a pencil: one symbolic analysis, any number of shifts.
 #[derive(Debug)]
@@ -91,14 +138,7 @@ pub struct ShiftInvert<'p> {
     k_pos: Vec<usize>,
     /// position in the union pattern of every stored value of M
     m_pos: Vec<usize>,
-    at_col_ptr: Vec<usize>,
-    at_row_idx: Vec<usize>,
-    /// position in the transposed pattern of every union entry
-    at_pos: Vec<usize>,
-    perm_fwd: Vec<usize>,
-    perm_inv: Vec<usize>,
-    symbolic: SymbolicSupernodalLu<usize>,
-    ordering: FillOrdering,
+    engine: Engine,
     fill_nnz: usize,
     analysis_seconds: f64,
     numeric: Option<Numeric>,
@@ -107,14 +147,71 @@ pub struct ShiftInvert<'p> {
     pub(crate) applications: std::sync::atomic::AtomicUsize,
 }
 
+/// The symbolic side of one factorisation kind.
+#[derive(Debug)]
+enum Engine {
+    Lu(LuAnalysis),
+    Symmetric(SymmetricAnalysis),
+}
+
+#[derive(Debug)]
+struct LuAnalysis {
+    at_col_ptr: Vec<usize>,
+    at_row_idx: Vec<usize>,
+    /// position in the transposed pattern of every union entry
+    at_pos: Vec<usize>,
+    perm_fwd: Vec<usize>,
+    perm_inv: Vec<usize>,
+    symbolic: SymbolicSupernodalLu<usize>,
+    ordering: FillOrdering,
+}
+
+/// The doubled real lower triangle: pattern, where each value comes from, and the
+/// symbolic Cholesky structure under the interleaved AMD ordering.
+#[derive(Debug)]
+struct SymmetricAnalysis {
+    col_ptr: Vec<usize>,
+    row_idx: Vec<usize>,
+    /// for each doubled entry: union position and which part (see [`Part`])
+    source: Vec<(usize, Part)>,
+    symbolic: SymbolicCholesky<usize>,
+}
+
+/// Which real number of a complex entry `x + iy` a doubled entry holds.
+#[derive(Debug, Clone, Copy)]
+enum Part {
+    /// `x`
+    Re,
+    /// `-y`
+    NegIm,
+    /// `-x`
+    NegRe,
+}
+
 #[derive(Debug)]
 struct Numeric {
     sigma: c64,
-    lu: SupernodalLu<usize, c64>,
-    row_fwd: Vec<usize>,
-    row_inv: Vec<usize>,
+    factors: Factors,
+    /// values of `K - sigma M` in the union pattern (for refinement)
+    values: Vec<c64>,
+    refine: bool,
     seconds: f64,
     condition: f64,
+}
+
+#[derive(Debug)]
+enum Factors {
+    Lu {
+        lu: Box<SupernodalLu<usize, c64>>,
+        row_fwd: Vec<usize>,
+        row_inv: Vec<usize>,
+    },
+    Symmetric {
+        l_values: Vec<f64>,
+        subdiag: Vec<f64>,
+        pivot_fwd: Vec<usize>,
+        pivot_inv: Vec<usize>,
+    },
 }
 
 /// What one call of [`ShiftInvert::factor`] did.
@@ -131,17 +228,64 @@ pub struct FactorReport {
 }
 
 impl<'p> ShiftInvert<'p> {
-    /// Symbolic analysis with the default ordering ([`FillOrdering::Colamd`]).
+    /// Symbolic analysis, choosing the factorisation: the symmetric one when `K` and
+    /// `M` are both complex-symmetric (to [`SYMMETRY_TOLERANCE`]), else the LU with
+    /// [`FillOrdering::Colamd`].
     pub fn try_new(pencil: &'p Pencil) -> Result<Self, EigenError> {
-        Self::try_new_with_ordering(pencil, FillOrdering::Colamd)
+        let start = Instant::now();
+        let n = pencil.dim();
+        let (col_ptr, row_idx, k_pos, m_pos) = union_pattern(pencil.k.as_ref(), pencil.m.as_ref());
+        let (at_col_ptr, at_row_idx, at_pos) = transpose_pattern(n, &col_ptr, &row_idx);
+        let symmetric = at_col_ptr == col_ptr
+            && at_row_idx == row_idx
+            && is_symmetric(pencil.k.val(), &k_pos, &col_ptr, &at_pos)
+            && is_symmetric(pencil.m.val(), &m_pos, &col_ptr, &at_pos);
+        if !symmetric {
+            return Self::lu(pencil, FillOrdering::Colamd, start);
+        }
+        let (analysis, fill_nnz) = symmetric_analysis(n, &col_ptr, &row_idx)?;
+        let union = (col_ptr, row_idx, k_pos, m_pos);
+        Ok(Self::with_engine(
+            pencil,
+            union,
+            Engine::Symmetric(analysis),
+            fill_nnz,
+            start,
+        ))
     }
 
-    /// Symbolic analysis of the union pattern of `K` and `M` with a chosen ordering.
+    /// An operator with its analysis done and no factorisation yet.
+    fn with_engine(
+        pencil: &'p Pencil,
+        (col_ptr, row_idx, k_pos, m_pos): (Vec<usize>, Vec<usize>, Vec<usize>, Vec<usize>),
+        engine: Engine,
+        fill_nnz: usize,
+        start: Instant,
+    ) -> Self {
+        Self {
+            pencil,
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+            engine,
+            fill_nnz,
+            analysis_seconds: start.elapsed().as_secs_f64(),
+            numeric: None,
+            par: faer::get_global_parallelism(),
+            applications: std::sync::atomic::AtomicUsize::new(0),
+        }
+    }
+
+    /// Symbolic analysis for the LU (whatever the pencil's symmetry) with a chosen ordering.
     pub fn try_new_with_ordering(
         pencil: &'p Pencil,
         ordering: FillOrdering,
     ) -> Result<Self, EigenError> {
-        let start = Instant::now();
+        Self::lu(pencil, ordering, Instant::now())
+    }
+
+    fn lu(pencil: &'p Pencil, ordering: FillOrdering, start: Instant) -> Result<Self, EigenError> {
         let n = pencil.dim();
         let k = pencil.k.as_ref();
         let m = pencil.m.as_ref();
@@ -155,15 +299,7 @@ impl<'p> ShiftInvert<'p> {
         let mut perm_inv = vec![0usize; n];
         match ordering {
             FillOrdering::AmdSymmetric => {
-                let mut mem = try_mem(amd::order_scratch::<usize>(n, nnz))?;
-                amd::order(
-                    &mut perm_fwd,
-                    &mut perm_inv,
-                    a,
-                    amd::Control::default(),
-                    MemStack::new(&mut mem),
-                )
-                .map_err(backend)?;
+                amd_order(&mut perm_fwd, &mut perm_inv, a)?;
             }
             FillOrdering::Colamd => {
                 let mut mem = try_mem(colamd::order_scratch::<usize>(n, n, nnz))?;
@@ -214,12 +350,7 @@ impl<'p> ShiftInvert<'p> {
         )
         .map_err(backend)?;
 
-        Ok(Self {
-            pencil,
-            col_ptr,
-            row_idx,
-            k_pos,
-            m_pos,
+        let engine = Engine::Lu(LuAnalysis {
             at_col_ptr,
             at_row_idx,
             at_pos,
@@ -227,12 +358,9 @@ impl<'p> ShiftInvert<'p> {
             perm_inv,
             symbolic,
             ordering,
-            fill_nnz,
-            analysis_seconds: start.elapsed().as_secs_f64(),
-            numeric: None,
-            par: faer::get_global_parallelism(),
-            applications: std::sync::atomic::AtomicUsize::new(0),
-        })
+        });
+        let union = (col_ptr, row_idx, k_pos, m_pos);
+        Ok(Self::with_engine(pencil, union, engine, fill_nnz, start))
     }
 
     /// The pencil this operator was built on.
@@ -245,9 +373,21 @@ impl<'p> ShiftInvert<'p> {
         self.pencil.dim()
     }
 
-    /// Ordering used by the symbolic analysis.
+    /// The factorisation in use.
+    pub fn factorisation(&self) -> Factorisation {
+        match self.engine {
+            Engine::Lu(_) => Factorisation::Lu,
+            Engine::Symmetric(_) => Factorisation::SymmetricDoubled,
+        }
+    }
+
+    /// Ordering used by the symbolic analysis of the LU (the symmetric factorisation
+    /// always orders with AMD, reported as [`FillOrdering::AmdSymmetric`]).
     pub fn ordering(&self) -> FillOrdering {
-        self.ordering
+        match &self.engine {
+            Engine::Lu(a) => a.ordering,
+            Engine::Symmetric(_) => FillOrdering::AmdSymmetric,
+        }
     }
 
     /// Stored entries of the union pattern of `K` and `M`.
@@ -255,9 +395,11 @@ impl<'p> ShiftInvert<'p> {
         self.row_idx.len()
     }
 
-    /// nnz(L + U) of the symbolic structure the numeric factorisation fills
-    /// (column counts of the Cholesky factor of `A^T A` under the chosen ordering,
-    /// counted for L and for U, diagonal once; before supernode amalgamation).
+    /// Size of the factor in complex entries (16 bytes each). LU: nnz(L + U) of the
+    /// symbolic structure (column counts of the Cholesky factor of `A^T A` under the
+    /// chosen ordering, counted for L and for U, diagonal once; before supernode
+    /// amalgamation). Symmetric: the stored values of the doubled real `L` (supernodes
+    /// included), halved.
     pub fn fill_nnz(&self) -> usize {
         self.fill_nnz
     }
@@ -270,6 +412,11 @@ impl<'p> ShiftInvert<'p> {
     /// The shift of the current numeric factorisation, if any.
     pub fn sigma(&self) -> Option<c64> {
         self.numeric.as_ref().map(|n| n.sigma)
+    }
+
+    /// Whether solves with the current factorisation take a refinement step.
+    pub fn refines(&self) -> bool {
+        self.numeric.as_ref().is_some_and(|n| n.refine)
     }
 
     /// Factorises `K - sigma M`, reusing the symbolic analysis. If the factorisation is
@@ -325,10 +472,8 @@ impl<'p> ShiftInvert<'p> {
         }
     }
 
-    /// One numeric factorisation at exactly `sigma`; returns the condition estimate.
-    fn factor_exact(&mut self, sigma: c64) -> Result<f64, EigenError> {
-        let start = Instant::now();
-        let n = self.dim();
+    /// `K - sigma M` in the union pattern.
+    fn shifted_values(&self, sigma: c64) -> Vec<c64> {
         let mut vals = vec![c64::ZERO; self.row_idx.len()];
         for (v, &p) in self.pencil.k.val().iter().zip(&self.k_pos) {
             vals[p] += *v;
@@ -336,77 +481,86 @@ impl<'p> ShiftInvert<'p> {
         for (v, &p) in self.pencil.m.val().iter().zip(&self.m_pos) {
             vals[p] -= sigma * *v;
         }
-        let mut at_vals = vec![c64::ZERO; vals.len()];
-        for (v, &p) in vals.iter().zip(&self.at_pos) {
-            at_vals[p] = *v;
-        }
-        let a = SparseColMatRef::new(
-            SymbolicSparseColMatRef::new_checked(n, n, &self.col_ptr, None, &self.row_idx),
-            &vals,
-        );
-        let at = SparseColMatRef::new(
-            SymbolicSparseColMatRef::new_checked(n, n, &self.at_col_ptr, None, &self.at_row_idx),
-            &at_vals,
-        );
-        let mut numeric = self.numeric.take().unwrap_or_else(|| Numeric {
+        vals
+    }
+
+    /// One numeric factorisation at exactly `sigma`; returns the condition estimate.
+    fn factor_exact(&mut self, sigma: c64) -> Result<f64, EigenError> {
+        let start = Instant::now();
+        let n = self.dim();
+        let vals = self.shifted_values(sigma);
+        let previous = self.numeric.take().map(|num| num.factors);
+        let factors = match &self.engine {
+            Engine::Lu(analysis) => factor_lu(
+                analysis,
+                n,
+                &self.col_ptr,
+                &self.row_idx,
+                &vals,
+                previous,
+                self.par,
+            )?,
+            Engine::Symmetric(analysis) => factor_symmetric(analysis, &vals, self.par)?,
+        };
+        self.numeric = Some(Numeric {
             sigma,
-            lu: SupernodalLu::new(),
-            row_fwd: vec![0; n],
-            row_inv: vec![0; n],
-            seconds: 0.0,
+            factors,
+            values: vals,
+            refine: false,
+            seconds: start.elapsed().as_secs_f64(),
             condition: f64::INFINITY,
         });
-        let params: Spec<PartialPivLuParams, c64> = Default::default();
-        let mut mem = try_mem(factorize_supernodal_numeric_lu_scratch::<usize, c64>(
-            &self.symbolic,
-            params,
-        ))?;
-        let perm = PermRef::new_checked(&self.perm_fwd, &self.perm_inv, n);
-        factorize_supernodal_numeric_lu(
-            &mut numeric.row_fwd,
-            &mut numeric.row_inv,
-            &mut numeric.lu,
-            a,
-            at,
-            perm,
-            &self.symbolic,
-            self.par,
-            MemStack::new(&mut mem),
-            params,
-        )
-        .map_err(|e| match e {
-            faer::sparse::linalg::LuError::SymbolicSingular { index } => {
-                EigenError::StructurallySingular { index }
-            }
-            faer::sparse::linalg::LuError::Generic(g) => backend(g),
-        })?;
-        numeric.sigma = sigma;
-        numeric.seconds = start.elapsed().as_secs_f64();
-        self.numeric = Some(numeric);
 
         // Condition estimate: ||A||_1 ||A^{-1} b||_1 / ||b||_1 for a fixed pseudo-random b
-        // (a lower bound on cond_1(A); a shift on an eigenvalue makes it ~1/eps).
+        // (a lower bound on cond_1(A); a shift on an eigenvalue makes it ~1/eps), and the
+        // backward error of that solve, which decides on refinement.
         let mut b = Mat::<c64>::zeros(n, 1);
         let mut state = 0x9E37_79B9_7F4A_7C15u64;
         for i in 0..n {
             b[(i, 0)] = c64::new(next_uniform(&mut state), next_uniform(&mut state));
         }
+        let mut x = b.clone();
+        self.solve_in_place(x.as_mut());
+        let a = self.shifted_matrix();
         let b_norm: f64 = (0..n).map(|i| b[(i, 0)].norm()).sum();
-        self.solve_in_place(b.as_mut());
-        let x_norm: f64 = (0..n).map(|i| b[(i, 0)].norm()).sum();
-        let condition = norm1(a) * x_norm / b_norm;
+        let x_norm: f64 = (0..n).map(|i| x[(i, 0)].norm()).sum();
+        let a_norm = norm1(a);
+        let condition = a_norm * x_norm / b_norm;
         let condition = if condition.is_finite() {
             condition
         } else {
             f64::INFINITY
         };
+        let mut r = b.clone();
+        sparse_dense_matmul(r.as_mut(), Accum::Add, a, x.as_ref(), -c64::ONE, Par::Seq);
+        let r_norm: f64 = (0..n).map(|i| r[(i, 0)].norm()).sum();
+        let backward = r_norm / (a_norm * x_norm + b_norm);
         if let Some(num) = self.numeric.as_mut() {
             num.condition = condition;
+            // a NaN backward error also refines
+            num.refine = backward.is_nan() || backward > REFINE_ABOVE;
         }
         Ok(condition)
     }
 
-    /// Solves `(K - sigma M) X = B` in place with the current factorisation.
+    /// `K - sigma M` of the current factorisation as a sparse matrix.
+    ///
+    /// # Panics
+    /// If [`ShiftInvert::factor`] has not succeeded yet.
+    fn shifted_matrix(&self) -> SparseColMatRef<'_, usize, c64> {
+        let numeric = self
+            .numeric
+            .as_ref()
+            .expect("ShiftInvert::factor must succeed first");
+        let n = self.dim();
+        SparseColMatRef::new(
+            SymbolicSparseColMatRef::new_checked(n, n, &self.col_ptr, None, &self.row_idx),
+            &numeric.values,
+        )
+    }
+
+    /// Solves `(K - sigma M) X = B` in place with the current factorisation (and one
+    /// refinement step when [`ShiftInvert::refines`]).
     ///
     /// # Panics
     /// If [`ShiftInvert::factor`] has not succeeded yet.
@@ -415,17 +569,92 @@ impl<'p> ShiftInvert<'p> {
             .numeric
             .as_ref()
             .expect("ShiftInvert::factor must succeed first");
+        let mut rhs = rhs;
+        if !numeric.refine {
+            self.solve_once(numeric, rhs);
+            return;
+        }
+        let b = rhs.to_owned();
+        self.solve_once(numeric, rhs.as_mut());
+        let mut r = b;
+        sparse_dense_matmul(
+            r.as_mut(),
+            Accum::Add,
+            self.shifted_matrix(),
+            rhs.as_ref(),
+            -c64::ONE,
+            self.par,
+        );
+        self.solve_once(numeric, r.as_mut());
+        rhs += &r;
+    }
+
+    fn solve_once(&self, numeric: &Numeric, rhs: MatMut<'_, c64>) {
         let n = self.dim();
         let ncols = rhs.ncols();
-        let mut mem = MemBuffer::new(solve_in_place_scratch::<usize, c64>(n, ncols, self.par));
-        numeric.lu.solve_in_place_with_conj(
-            PermRef::new_checked(&numeric.row_fwd, &numeric.row_inv, n),
-            PermRef::new_checked(&self.perm_fwd, &self.perm_inv, n),
-            Conj::No,
-            rhs,
-            self.par,
-            MemStack::new(&mut mem),
-        );
+        match (&self.engine, &numeric.factors) {
+            (
+                Engine::Lu(analysis),
+                Factors::Lu {
+                    lu,
+                    row_fwd,
+                    row_inv,
+                },
+            ) => {
+                let mut mem =
+                    MemBuffer::new(solve_in_place_scratch::<usize, c64>(n, ncols, self.par));
+                lu.solve_in_place_with_conj(
+                    PermRef::new_checked(row_fwd, row_inv, n),
+                    PermRef::new_checked(&analysis.perm_fwd, &analysis.perm_inv, n),
+                    Conj::No,
+                    rhs,
+                    self.par,
+                    MemStack::new(&mut mem),
+                );
+            }
+            (
+                Engine::Symmetric(analysis),
+                Factors::Symmetric {
+                    l_values,
+                    subdiag,
+                    pivot_fwd,
+                    pivot_inv,
+                },
+            ) => {
+                let mut rhs = rhs;
+                let mut z = Mat::<f64>::zeros(2 * n, ncols);
+                for j in 0..ncols {
+                    for i in 0..n {
+                        let v = rhs[(i, j)];
+                        z[(2 * i, j)] = v.re;
+                        z[(2 * i + 1, j)] = -v.im;
+                    }
+                }
+                let lblt = IntranodeLbltRef::new(
+                    &analysis.symbolic,
+                    l_values,
+                    subdiag,
+                    PermRef::new_checked(pivot_fwd, pivot_inv, 2 * n),
+                );
+                let mut mem = MemBuffer::new(
+                    analysis
+                        .symbolic
+                        .solve_in_place_scratch::<f64>(ncols, self.par),
+                );
+                lblt.solve_in_place_with_conj(
+                    Conj::No,
+                    z.as_mut(),
+                    self.par,
+                    MemStack::new(&mut mem),
+                );
+                for j in 0..ncols {
+                    for i in 0..n {
+                        rhs[(i, j)] = c64::new(z[(2 * i, j)], z[(2 * i + 1, j)]);
+                    }
+                }
+            }
+            _ => unreachable!("factors always match the engine that made them"),
+        }
     }
 
     /// `out = (K - sigma M)^{-1} M x` for each column of `x`.
@@ -443,6 +672,237 @@ impl<'p> ShiftInvert<'p> {
         );
         self.solve_in_place(out);
     }
+}
+
+/// Numeric LU of the union-pattern values `vals`.
+fn factor_lu(
+    analysis: &LuAnalysis,
+    n: usize,
+    col_ptr: &[usize],
+    row_idx: &[usize],
+    vals: &[c64],
+    previous: Option<Factors>,
+    par: Par,
+) -> Result<Factors, EigenError> {
+    let mut at_vals = vec![c64::ZERO; vals.len()];
+    for (v, &p) in vals.iter().zip(&analysis.at_pos) {
+        at_vals[p] = *v;
+    }
+    let a = SparseColMatRef::new(
+        SymbolicSparseColMatRef::new_checked(n, n, col_ptr, None, row_idx),
+        vals,
+    );
+    let at = SparseColMatRef::new(
+        SymbolicSparseColMatRef::new_checked(
+            n,
+            n,
+            &analysis.at_col_ptr,
+            None,
+            &analysis.at_row_idx,
+        ),
+        &at_vals,
+    );
+    let (mut lu, mut row_fwd, mut row_inv) = match previous {
+        Some(Factors::Lu {
+            lu,
+            row_fwd,
+            row_inv,
+        }) => (lu, row_fwd, row_inv),
+        _ => (Box::new(SupernodalLu::new()), vec![0; n], vec![0; n]),
+    };
+    let params: Spec<PartialPivLuParams, c64> = Default::default();
+    let mut mem = try_mem(factorize_supernodal_numeric_lu_scratch::<usize, c64>(
+        &analysis.symbolic,
+        params,
+    ))?;
+    let perm = PermRef::new_checked(&analysis.perm_fwd, &analysis.perm_inv, n);
+    factorize_supernodal_numeric_lu(
+        &mut row_fwd,
+        &mut row_inv,
+        &mut lu,
+        a,
+        at,
+        perm,
+        &analysis.symbolic,
+        par,
+        MemStack::new(&mut mem),
+        params,
+    )
+    .map_err(|e| match e {
+        faer::sparse::linalg::LuError::SymbolicSingular { index } => {
+            EigenError::StructurallySingular { index }
+        }
+        faer::sparse::linalg::LuError::Generic(g) => backend(g),
+    })?;
+    Ok(Factors::Lu {
+        lu,
+        row_fwd,
+        row_inv,
+    })
+}
+
+/// Whether the values `v` (placed at `pos` in the union pattern) are symmetric.
+fn is_symmetric(v: &[c64], pos: &[usize], col_ptr: &[usize], at_pos: &[usize]) -> bool {
+    let nnz = at_pos.len();
+    let mut u = vec![c64::ZERO; nnz];
+    for (x, &p) in v.iter().zip(pos) {
+        u[p] += *x;
+    }
+    let n = col_ptr.len() - 1;
+    let mut col_max = vec![0.0f64; n];
+    for j in 0..n {
+        col_max[j] = u[col_ptr[j]..col_ptr[j + 1]]
+            .iter()
+            .map(|x| x.norm())
+            .fold(0.0, f64::max);
+    }
+    // With a symmetric pattern, union position `at_pos[p]` holds the transposed entry.
+    (0..n).all(|j| {
+        (col_ptr[j]..col_ptr[j + 1]).all(|p| {
+            let (a, b) = (u[p], u[at_pos[p]]);
+            let scale = a.norm().max(b.norm()).max(col_max[j]);
+            (a - b).norm() <= SYMMETRY_TOLERANCE * scale
+        })
+    })
+}
+
+/// AMD ordering of a structurally symmetric pattern.
+fn amd_order(
+    perm_fwd: &mut [usize],
+    perm_inv: &mut [usize],
+    a: SymbolicSparseColMatRef<'_, usize>,
+) -> Result<(), EigenError> {
+    let n = a.nrows();
+    let mut mem = try_mem(amd::order_scratch::<usize>(n, a.compute_nnz()))?;
+    amd::order(
+        perm_fwd,
+        perm_inv,
+        a,
+        amd::Control::default(),
+        MemStack::new(&mut mem),
+    )
+    .map_err(backend)?;
+    Ok(())
+}
+
+/// Symbolic analysis of the doubled real lower triangle of a structurally symmetric
+/// complex pattern; returns it and the factor size in complex entries.
+fn symmetric_analysis(
+    n: usize,
+    col_ptr: &[usize],
+    row_idx: &[usize],
+) -> Result<(SymmetricAnalysis, usize), EigenError> {
+    let a = SymbolicSparseColMatRef::new_checked(n, n, col_ptr, None, row_idx);
+    let mut fwd = vec![0usize; n];
+    let mut inv = vec![0usize; n];
+    amd_order(&mut fwd, &mut inv, a)?;
+    // the pair (2i, 2i+1) of each complex unknown stays together
+    let fwd2: Vec<usize> = fwd.iter().flat_map(|&f| [2 * f, 2 * f + 1]).collect();
+    let inv2: Vec<usize> = inv.iter().flat_map(|&v| [2 * v, 2 * v + 1]).collect();
+
+    let mut dcol_ptr = Vec::with_capacity(2 * n + 1);
+    let mut drow_idx = Vec::new();
+    let mut source = Vec::new();
+    dcol_ptr.push(0);
+    for j in 0..n {
+        let lower = (col_ptr[j]..col_ptr[j + 1]).filter(|&p| row_idx[p] >= j);
+        // column 2j: (2i, x), (2i+1, -y) for every i >= j
+        for p in lower.clone() {
+            let i = row_idx[p];
+            drow_idx.push(2 * i);
+            source.push((p, Part::Re));
+            drow_idx.push(2 * i + 1);
+            source.push((p, Part::NegIm));
+        }
+        dcol_ptr.push(drow_idx.len());
+        // column 2j+1: (2j+1, -x) on the diagonal; (2i, -y), (2i+1, -x) below
+        for p in lower {
+            let i = row_idx[p];
+            if i != j {
+                drow_idx.push(2 * i);
+                source.push((p, Part::NegIm));
+            }
+            drow_idx.push(2 * i + 1);
+            source.push((p, Part::NegRe));
+        }
+        dcol_ptr.push(drow_idx.len());
+    }
+    let symbolic = {
+        let pattern =
+            SymbolicSparseColMatRef::new_checked(2 * n, 2 * n, &dcol_ptr, None, &drow_idx);
+        factorize_symbolic_cholesky(
+            pattern,
+            Side::Lower,
+            SymmetricOrdering::Custom(PermRef::new_checked(&fwd2, &inv2, 2 * n)),
+            CholeskySymbolicParams {
+                // the simplicial path has no pivoting at all
+                supernodal_flop_ratio_threshold: SupernodalThreshold::FORCE_SUPERNODAL,
+                ..Default::default()
+            },
+        )
+        .map_err(backend)?
+    };
+    let fill = symbolic.len_val() / 2;
+    Ok((
+        SymmetricAnalysis {
+            col_ptr: dcol_ptr,
+            row_idx: drow_idx,
+            source,
+            symbolic,
+        },
+        fill,
+    ))
+}
+
+/// Numeric `L B L^T` of the doubled real form of the union-pattern values `vals`.
+fn factor_symmetric(
+    analysis: &SymmetricAnalysis,
+    vals: &[c64],
+    par: Par,
+) -> Result<Factors, EigenError> {
+    let n2 = analysis.col_ptr.len() - 1;
+    let values: Vec<f64> = analysis
+        .source
+        .iter()
+        .map(|&(p, part)| match part {
+            Part::Re => vals[p].re,
+            Part::NegIm => -vals[p].im,
+            Part::NegRe => -vals[p].re,
+        })
+        .collect();
+    let a = SparseColMatRef::new(
+        SymbolicSparseColMatRef::new_checked(n2, n2, &analysis.col_ptr, None, &analysis.row_idx),
+        &values,
+    );
+    let symbolic = &analysis.symbolic;
+    let mut l_values = vec![0.0f64; symbolic.len_val()];
+    let mut subdiag = vec![0.0f64; n2];
+    let mut pivot_fwd = vec![0usize; n2];
+    let mut pivot_inv = vec![0usize; n2];
+    let params = Default::default();
+    let mut mem = try_mem(symbolic.factorize_numeric_intranode_lblt_scratch::<f64>(par, params))?;
+    symbolic.factorize_numeric_intranode_lblt(
+        &mut l_values,
+        &mut subdiag,
+        &mut pivot_fwd,
+        &mut pivot_inv,
+        a,
+        Side::Lower,
+        par,
+        MemStack::new(&mut mem),
+        params,
+    );
+    if l_values.iter().any(|v| !v.is_finite()) {
+        return Err(EigenError::Backend(
+            "the symmetric factorisation produced non-finite values".into(),
+        ));
+    }
+    Ok(Factors::Symmetric {
+        l_values,
+        subdiag,
+        pivot_fwd,
+        pivot_inv,
+    })
 }
 
 impl LinOp<c64> for ShiftInvert<'_> {

@@ -82,8 +82,10 @@ pub struct Stats {
     pub n: usize,
     /// stored entries of the union pattern of K and M
     pub pattern_nnz: usize,
-    /// nnz(L + U) of the factor structure
+    /// size of the factor in complex entries (see [`ShiftInvert::fill_nnz`])
     pub fill_nnz: usize,
+    /// the factorisation used; `None` only in a default-constructed value
+    pub factorisation: Option<crate::Factorisation>,
     /// symbolic analysis, seconds
     pub analysis_seconds: f64,
     /// numeric factorisation(s), seconds
@@ -290,6 +292,7 @@ impl ShiftInvert<'_> {
                 n,
                 pattern_nnz: self.pattern_nnz(),
                 fill_nnz: self.fill_nnz(),
+                factorisation: Some(self.factorisation()),
                 analysis_seconds: self.analysis_seconds(),
                 factor_seconds: report.seconds,
                 iteration_seconds: start.elapsed().as_secs_f64(),

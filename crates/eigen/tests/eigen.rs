@@ -369,3 +369,54 @@ fn growing_request_reuses_the_factorisation() {
             .any(|e| (p.lambda.re - e).abs() < 1e-8 * e));
     }
 }
+
+#[test]
+fn symmetric_factorisation_is_chosen_and_agrees() {
+    // Real symmetric: the 5-point Laplacian against its exact eigenvalues (standard
+    // finite-difference analysis), at a real interior shift and a complex one.
+    let m = 18;
+    let pencil = laplacian_2d_dirichlet(m);
+    let exact = real(&laplacian_2d_dirichlet_eigenvalues(m));
+    let mut op = ShiftInvert::try_new(&pencil).unwrap();
+    assert_eq!(op.factorisation(), Factorisation::SymmetricDoubled);
+    for sigma in [c64::new(300.0, 0.0), c64::new(900.0, 10.0)] {
+        let opts = SolveOptions {
+            count: 6,
+            ..Default::default()
+        };
+        let s = op.solve_near(sigma, &opts).unwrap();
+        assert_eq!(s.status, Status::Converged);
+        assert_same_multiset(&lambdas(&s), &nearest(&exact, sigma, 6), 1e-10);
+    }
+
+    // Complex symmetric, lossy and absorbing (`eps`, `s` complex): the symmetric part of
+    // the absorbing model pencil, against the LU path on the same pencil (itself checked
+    // against dense QZ in `random_complex_pencil_matches_dense_qz`).
+    let absorbing = model::helmholtz_p1_absorbing(24);
+    let pencil = model::symmetric_part(&absorbing);
+    let sigma = c64::new(60.0, -3.0);
+    let opts = SolveOptions {
+        count: 8,
+        ..Default::default()
+    };
+    let mut sym = ShiftInvert::try_new(&pencil).unwrap();
+    assert_eq!(sym.factorisation(), Factorisation::SymmetricDoubled);
+    let mut lu = ShiftInvert::try_new_with_ordering(&pencil, FillOrdering::Colamd).unwrap();
+    assert_eq!(lu.factorisation(), Factorisation::Lu);
+    let a = sym.solve_near(sigma, &opts).unwrap();
+    let b = lu.solve_near(sigma, &opts).unwrap();
+    assert_eq!(a.status, Status::Converged);
+    assert!(a.pairs.iter().all(|p| p.residual < 1e-10));
+    assert_same_multiset(&lambdas(&a), &lambdas(&b), 1e-10);
+    // The symmetric factor is the smaller one.
+    assert!(
+        sym.fill_nnz() < lu.fill_nnz(),
+        "{} vs {}",
+        sym.fill_nnz(),
+        lu.fill_nnz()
+    );
+
+    // A non-symmetric pencil (the drift term of the same model) keeps the LU.
+    let op = ShiftInvert::try_new(&absorbing).unwrap();
+    assert_eq!(op.factorisation(), Factorisation::Lu);
+}

@@ -188,6 +188,40 @@ impl AssembledSystem {
     pub fn summary(&self) -> ConstraintSummary {
         self.dofs.summary()
     }
+
+    /// `(D K, D M)` with `D = diag(+1 on transverse DOFs, -1 on third-component DOFs)`:
+    /// the same eigenpairs and residual norms, and a complex-symmetric pencil whenever
+    /// the equivalent media do not couple the third component to the section plane
+    /// (revolution bodies, untwisted rings, untwisted straight guides; not twisted
+    /// guides).
+    ///
+    /// Why: the test field carries `exp(-i m w)`, so `K(F, E)` pairs `curl_{-m} F` with
+    /// `curl_m E`. Changing the sign of the third component `f_w` of the test field
+    /// turns `curl_{-m} F` into `R curl_m F` with `R = diag(-1, -1, 1)`, so the rows
+    /// of `D K` are `int (curl_m F)^T (R nu) (curl_m E)`: symmetric when `R nu` is,
+    /// i.e. when `nu` has no `(u, w)` or `(v, w)` entries; `D M` likewise with `eps`.
+    /// (Derived here; checked numerically in the tests.)
+    pub fn symmetric_form(&self) -> (SparseColMat<usize, c64>, SparseColMat<usize, c64>) {
+        let third = self.dofs.third_start();
+        let sign: Vec<f64> = self
+            .dofs
+            .full_indices()
+            .iter()
+            .map(|&f| if f >= third { -1.0 } else { 1.0 })
+            .collect();
+        let flip = |a: &SparseColMat<usize, c64>| {
+            let mut a = a.clone();
+            let n = a.ncols();
+            for j in 0..n {
+                let rows: Vec<usize> = a.as_ref().row_idx_of_col(j).collect();
+                for (v, i) in a.val_of_col_mut(j).iter_mut().zip(rows) {
+                    *v *= sign[i];
+                }
+            }
+            a
+        };
+        (flip(&self.stiffness), flip(&self.mass))
+    }
 }
 
 impl<'m> SectionProblem<'m> {
