@@ -70,7 +70,7 @@ fn solve_json_reproduces_the_tm010_cavity_resonance() {
     assert!(mode["residual"].as_f64().unwrap() < 1e-8);
     assert_eq!(mode["m"].as_f64(), Some(0.0));
     assert!((mode["confinement"].as_f64().unwrap() - 1.0).abs() < 1e-9);
-    for name in ["modes.json", "modes.csv", "mesh.msh"] {
+    for name in ["modes.json", "modes.csv", "mesh.msh", "fields.vtu"] {
         assert!(dir.path().join("res").join(name).is_file(), "{name}");
     }
     // The written mesh reads back.

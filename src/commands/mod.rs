@@ -5,6 +5,7 @@ use anyhow::{Context, Result};
 use twistmode::report::{modes_table, write_tables, ResultsDocument};
 use twistmode::solve::{solve_case, SolveOutcome, SolveSettings};
 use twistmode_io::case::{parse_set_argument, Body, Case};
+use twistmode_io::vtk::{write_section_vtu, NodalField};
 
 use crate::cli::{CaseArgs, Cli, Command, DemoArgs, SolveArgs, SweepArgs, ValidateArgs};
 
@@ -79,6 +80,18 @@ fn solve_and_write(
     let msh = out.join("mesh.msh");
     twistmode_mesh::write_gmsh(&outcome.mesh, &msh)?;
     written.push(msh);
+    let vtu = out.join("fields.vtu");
+    let fields: Vec<NodalField<'_>> = outcome
+        .modes
+        .iter()
+        .zip(&outcome.nodal_fields)
+        .map(|(mode, values)| NodalField {
+            name: format!("mode_{:02}_E", mode.index),
+            values,
+        })
+        .collect();
+    write_section_vtu(&outcome.mesh, &fields, case.length_unit, &vtu)?;
+    written.push(vtu);
     if plots {
         written.extend(twistmode::pictures::write_pictures(&outcome, case, out)?);
     }

@@ -5,7 +5,8 @@
 //!   ([`Case::generator_spec`], [`Case::mesh_source`]);
 //! - [`output`]: atomic result files, JSON, CSV and aligned text tables;
 //! - [`plot`]: PNG previews of meshes and field maps;
-//! - [`units`]: lengths and quantities with units ("6.2 GHz", "1.55 um").
+//! - [`units`]: lengths and quantities with units ("6.2 GHz", "1.55 um");
+//! - [`vtk`]: field export as VTK XML unstructured grids (`.vtu`).
 //!
 //! Key design decision: units exist only here. A case file states its length
 //! unit once and quantities carry theirs; everything leaving this crate is SI
@@ -18,6 +19,7 @@ pub mod case;
 pub mod output;
 pub mod plot;
 pub mod units;
+pub mod vtk;
 
 pub use case::{Case, CaseError, MeshSource};
 pub use units::LengthUnit;
