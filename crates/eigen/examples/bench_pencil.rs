@@ -124,9 +124,9 @@ fn main() {
     };
     let s = op.solve_near(sigma, &opts).expect("solve");
     let ours = t.elapsed().as_secs_f64();
-    println!("ours ({}): status {:?}, {} pairs, total {:.2} s (analysis {:.2}, factor {:.2}, iterations {:.2}), \
+    println!("ours ({}, refinement {}): status {:?}, {} pairs, total {:.2} s (analysis {:.2}, factor {:.2}, iterations {:.2}), \
               {} operator applications, factor size {} complex entries, condition ~ {:.1e}, peak memory {:.0} MiB",
-        op.factorisation().name(), s.status, s.pairs.len(), ours, s.stats.analysis_seconds, s.stats.factor_seconds,
+        op.factorisation().name(), op.refines(), s.status, s.pairs.len(), ours, s.stats.analysis_seconds, s.stats.factor_seconds,
         s.stats.iteration_seconds, s.stats.operator_applications, s.stats.fill_nnz, s.stats.condition,
         peak_memory_mib());
     for p in &s.pairs {
