@@ -358,8 +358,11 @@ fn find_pairs(
     count: usize,
     more: impl FnMut(&Spectrum) -> Option<usize>,
 ) -> Result<Spectrum, SolveError> {
-    let k0 = case.search.k0();
-    let sigma = Complex64::new(k0 * k0, 0.0);
+    // Real shift `k0^2`, or `(k0 (1 - i / (2 Q)))^2` with `search.near_q`:
+    // a leaky mode's `k0^2` lies far below the real axis, behind PML modes.
+    let (re, im) = case.search.complex_k0();
+    let target = Complex64::new(re, im);
+    let sigma = target * target;
     // Row signs make untwisted pencils complex-symmetric (same eigenpairs), which
     // lets the eigen crate use its symmetric factorisation.
     let (k, m) = system.symmetric_form();

@@ -105,6 +105,10 @@ pub(crate) const KEY_HELP: &[(&str, &str)] = &[
     ("search.count", "a whole number >= 1"),
     ("search.harmonics", "a whole number >= 0"),
     (
+        "search.near_q",
+        "a number > 0: the expected quality factor of the resonances",
+    ),
+    (
         "boundary.midplane",
         "a string: \"none\", \"electric\" or \"magnetic\"",
     ),

@@ -178,6 +178,10 @@ pub struct Search {
     pub count: usize,
     /// Fourier window half-width K for twisted rings (harmonics m + k tau, |k| <= K); 0 otherwise.
     pub harmonics: u32,
+    /// Expected quality factor of the resonances sought (`search.near_q`):
+    /// with it the search is centred on the complex wavenumber
+    /// `k0 (1 - i / (2 Q))` instead of the real `k0`; `None` searches near the real `k0`.
+    pub near_q: Option<f64>,
 }
 
 impl Search {
@@ -188,6 +192,16 @@ impl Search {
     /// Free-space wavenumber at the target frequency, rad/m.
     pub fn k0(&self) -> f64 {
         2.0 * std::f64::consts::PI * self.near_frequency / SPEED_OF_LIGHT
+    }
+    /// Complex target wavenumber `(Re, Im)`, rad/m: `k0 (1 - i / (2 Q))` with
+    /// `Q = near_q` (time dependence `exp(-i omega t)`, so radiating modes
+    /// have `Im k0 < 0`), or `(k0, 0)` without `near_q`.
+    pub fn complex_k0(&self) -> (f64, f64) {
+        let k0 = self.k0();
+        match self.near_q {
+            Some(q) => (k0, -k0 / (2.0 * q)),
+            None => (k0, 0.0),
+        }
     }
 }
 

@@ -127,6 +127,7 @@ pub(crate) struct RawSearch {
     pub near_wavelength: Option<RawQuantity>,
     pub count: Option<u32>,
     pub harmonics: Option<u32>,
+    pub near_q: Option<f64>,
 }
 
 #[derive(Deserialize, Debug, Clone, Copy, PartialEq, Eq)]

@@ -815,7 +815,28 @@ fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Res
         near_frequency,
         count: count as usize,
         harmonics,
+        near_q: near_q(s)?,
     })
+}
+
+/// `search.near_q`: any finite Q > 0 (Q = Re k0 / (2 |Im k0|) of a radiating mode).
+fn near_q(s: &RawSearch) -> Result<Option<f64>> {
+    let Some(q) = s.near_q else {
+        return Ok(None);
+    };
+    let q = finite("search.near_q", q)?;
+    if q <= 0.0 {
+        return Err(CaseError::new(
+            "search.near_q",
+            format!(
+                "search.near_q = {} is not a quality factor (Q = Re k0 / (2 |Im k0|) > 0)",
+                fmt_num(q)
+            ),
+            "give the expected Q of the resonances, e.g. near_q = 5 for a leaky one, \
+             or remove the key to search near the real frequency",
+        ));
+    }
+    Ok(Some(q))
 }
 
 fn azimuthal_order(m: f64, body: &Body) -> Result<AzimuthalOrder> {
@@ -962,4 +983,56 @@ fn check_placement(
         Body::Straight { .. } => {}
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod near_q_tests {
+    use crate::case::Case;
+
+    const SPHERE: &str = r#"
+[units]
+length = "um"
+[body]
+kind = "revolution"
+[section]
+shape = "disc"
+radius = 1.0
+centre = [0.0, 0.0]
+material = "glass"
+[materials.glass]
+epsilon = 2.25
+[search]
+m = 1
+near_frequency = "200 THz"
+"#;
+
+    fn with(line: &str) -> Result<Case, crate::case::CaseError> {
+        Case::from_toml_str(&format!("{SPHERE}{line}\n"), &[])
+    }
+
+    #[test]
+    fn near_q_makes_the_target_complex() {
+        let plain = with("").unwrap();
+        assert_eq!(plain.search.near_q, None);
+        let k0 = plain.search.k0();
+        assert_eq!(plain.search.complex_k0(), (k0, 0.0));
+        let leaky = with("near_q = 0.5").unwrap();
+        // Q = Re k0 / (2 |Im k0|) (DEVELOPERS.md convention), so Q = 0.5 gives Im k0 = -Re k0.
+        let (re, im) = leaky.search.complex_k0();
+        assert_eq!(re, k0);
+        assert!((im + k0).abs() <= 1e-12 * k0);
+    }
+
+    #[test]
+    fn near_q_refuses_what_is_no_quality_factor() {
+        for bad in ["near_q = 0", "near_q = -3", "near_q = nan", "near_q = inf"] {
+            let e = with(bad).expect_err(bad);
+            assert_eq!(e.key, "search.near_q", "{bad}: {e:?}");
+        }
+        let e = with("near_q = -3").unwrap_err();
+        assert!(
+            e.fix.contains("near_q = 5") && e.fix.contains("remove"),
+            "{e:?}"
+        );
+    }
 }
