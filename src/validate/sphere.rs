@@ -358,7 +358,7 @@ fn radial_share(mesh: &twistmode_mesh::Mesh, field: &[[Complex64; 3]], radius: f
 /// l from 1 to 30, radial orders 1 to 3, several m, each at the resolution
 /// that the measured h^4 convergence says reaches 1e-6 (12 to 32 elements
 /// per wavelength: small spheres in wavelengths need more per wavelength);
-/// the six with Q below 10 use [`SphereProbe::leaky`].
+/// the probes of the six resonances with Q below 10 use [`SphereProbe::leaky`].
 pub fn probes(level: Level) -> Vec<SphereProbe> {
     use SpherePolarization::{Te, Tm};
     let at = |index, l, p, polarization, m, resolution| {
@@ -380,7 +380,7 @@ pub fn probes(level: Level) -> Vec<SphereProbe> {
         ],
         Level::Full => vec![
             leaky(2.0, 1, 1, Te, 1, 32.0),
-            leaky(2.0, 1, 1, Tm, 0, 32.0),
+            leaky(2.0, 1, 1, Tm, 0, 48.0),
             at(2.0, 5, 1, Te, 5, 22.0),
             at(2.0, 5, 1, Tm, 5, 22.0),
             at(2.0, 5, 2, Te, 2, 22.0),
@@ -390,6 +390,7 @@ pub fn probes(level: Level) -> Vec<SphereProbe> {
             at(2.0, 10, 1, Te, 7, 20.0),
             at(2.0, 20, 1, Te, 20, 16.0),
             leaky(1.5, 1, 1, Tm, 1, 32.0),
+            leaky(1.5, 1, 1, Tm, 0, 48.0),
             leaky(1.5, 5, 1, Te, 5, 22.0),
             leaky(1.5, 10, 2, Tm, 10, 20.0),
             at(3.0, 5, 1, Tm, 5, 16.0),
