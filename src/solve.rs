@@ -300,10 +300,10 @@ pub fn set_up(case: &Case, mesh: &Mesh) -> Result<SectionSetup, SolveError> {
     let mut materials = MaterialTable::single("", FemMaterial::vacuum(), surroundings);
     materials.by_name.clear();
     for (name, m) in &case.materials {
-        let mut fm = FemMaterial::isotropic(m.epsilon);
-        for i in 0..3 {
-            fm.mu[i][i] = m.mu;
-        }
+        let fm = FemMaterial {
+            eps: m.epsilon,
+            mu: m.mu,
+        };
         materials.by_name.insert(name.clone(), fm);
     }
     let mut walls = Vec::new();

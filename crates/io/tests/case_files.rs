@@ -4,7 +4,7 @@ use num_complex::Complex64;
 use proptest::prelude::*;
 use std::path::{Path, PathBuf};
 use twistmode_io::case::{
-    Body, Case, CaseError, Midplane, ModeOrder, SectionOutline, SurroundingMedium,
+    scalar_tensor, Body, Case, CaseError, Midplane, ModeOrder, SectionOutline, SurroundingMedium,
 };
 use twistmode_mesh::{DomainKind, GeometryOrder, SectionShape, Surroundings};
 
@@ -74,8 +74,9 @@ fn ceramic_ring_example_reads_in_si_units() {
         }
     );
     let m = &case.materials["kestrel-38"];
-    assert_eq!(m.epsilon, Complex64::new(38.0, 0.00038));
-    assert_eq!(m.mu, Complex64::new(1.0, 0.0));
+    assert_eq!(m.epsilon, scalar_tensor(Complex64::new(38.0, 0.00038)));
+    assert_eq!(m.mu, scalar_tensor(Complex64::new(1.0, 0.0)));
+    assert!(m.is_isotropic());
     assert_eq!(case.search.near_frequency, 7e9);
     assert_eq!(case.search.harmonics, 0);
     assert!(!case.mesh.pi_symmetric);
@@ -206,7 +207,10 @@ fn overrides_change_values_before_validation() {
         "section.material=other",
     ])
     .unwrap();
-    assert_eq!(case.materials["other"].epsilon, Complex64::new(2.0, 0.1));
+    assert_eq!(
+        case.materials["other"].epsilon,
+        scalar_tensor(Complex64::new(2.0, 0.1))
+    );
     // A misspelt override is caught like a misspelt key.
     assert_refused(
         ring_with(&["section.widht=6"]),
@@ -412,11 +416,37 @@ fn gain_is_refused_with_the_sign_convention() {
         "positive imaginary part",
     );
     assert_refused(
-        ring_with(&["materials.k38.epsilon=[[1,0,0],[0,1,0],[0,0,1]]"]),
+        ring_with(&["materials.k38.epsilon=[[9,0,0],[0,11,0],[0,0,9]]"]),
         "materials.k38.epsilon",
-        "tensor",
-        "planned",
+        "rotation about the z axis",
+        "[[a, b, 0], [-b, a, 0], [0, 0, c]]",
     );
+    assert_refused(
+        ring_with(&["materials.k38.epsilon=[[9,0,0],[0,9,0],[0,0,[11,-0.1]]]"]),
+        "materials.k38.epsilon",
+        "gain in some direction",
+        "positive imaginary parts",
+    );
+    assert_refused(
+        ring_with(&["materials.k38.epsilon=[[1,2,0],[2,4,0],[0,0,1]]"]),
+        "materials.k38.epsilon",
+        "singular",
+        "invertible",
+    );
+    assert_refused(
+        ring_with(&["surroundings.epsilon=[[1,0,0],[0,1,0],[0,0,1]]"]),
+        "surroundings.epsilon",
+        "must be a scalar here",
+        "a number, or [re, im]",
+    );
+    // A uniaxial crystal with its axis along z, lossy along the axis, is accepted as given.
+    let case = ring_with(&["materials.k38.epsilon=[[9,0,0],[0,9,0],[0,0,[11.5,0.002]]]"]).unwrap();
+    let eps = case.materials["k38"].epsilon;
+    assert_eq!(eps[0][0], Complex64::new(9.0, 0.0));
+    assert_eq!(eps[2][2], Complex64::new(11.5, 0.002));
+    assert_eq!(eps[0][1], Complex64::new(0.0, 0.0));
+    assert!(!case.materials["k38"].is_isotropic());
+    assert!((case.materials["k38"].index_modulus() - 11.5f64.hypot(0.002).sqrt()).abs() < 1e-12);
     assert_refused(
         ring_with(&["materials.k38.epsilon=0"]),
         "materials.k38.epsilon",

@@ -183,6 +183,60 @@ pub fn cylinder_modes(
     lowest_modes(radius, length, filling, count, false, cutoffs)
 }
 
+/// The lowest `count` resonances of a closed circular cylinder cavity filled with a
+/// uniaxial dielectric whose optic axis is the cylinder axis,
+/// `eps = diag(eps_perp, eps_perp, eps_par)` (non-magnetic), ordered by frequency.
+///
+/// TE_mnp (`E_z = 0`: the field sees `eps_perp` only):
+/// `k0^2 = ((x'_mn / a)^2 + (p pi / d)^2) / eps_perp`;
+/// TM_mnp (`H_z = 0`, the extraordinary wave):
+/// `k0^2 = (x_mn / a)^2 / eps_par + (p pi / d)^2 / eps_perp`.
+/// Source: the extraordinary-wave dispersion relation `k_t^2 / eps_par + k_z^2 / eps_perp
+/// = k0^2` of a uniaxial medium with its axis along z (Born & Wolf, *Principles of
+/// Optics*, sec. 15.3; from memory) with the cut-offs of the isotropic cavity. The
+/// `k` field of each mode holds the vacuum-filled value `sqrt(k_c^2 + (p pi / d)^2)`.
+pub fn uniaxial_cylinder_modes(
+    radius: f64,
+    length: f64,
+    eps_perp: f64,
+    eps_par: f64,
+    count: usize,
+) -> Result<Vec<CavityMode>, ReferenceError> {
+    positive("eps_perp", eps_perp)?;
+    positive("eps_par", eps_par)?;
+    if count == 0 {
+        return Ok(Vec::new());
+    }
+    let axial = PI / length;
+    let largest = eps_perp.max(eps_par).sqrt();
+    let mut asked = 4 * count.max(1);
+    loop {
+        let vacuum = cylinder_modes(radius, length, Filling::VACUUM, asked)?;
+        let mut modes: Vec<CavityMode> = vacuum
+            .iter()
+            .map(|mode| {
+                let kz = f64::from(mode.p) * axial;
+                let k0 = match mode.kind {
+                    CavityModeKind::Tm => {
+                        (mode.k_cutoff.powi(2) / eps_par + kz * kz / eps_perp).sqrt()
+                    }
+                    _ => mode.k / eps_perp.sqrt(),
+                };
+                CavityMode { k0, ..*mode }
+            })
+            .collect();
+        modes.sort_by(|x, y| x.k0.total_cmp(&y.k0).then(x.kind.cmp(&y.kind)));
+        // Every mode left out has a vacuum k above the largest listed one, hence
+        // k0 >= k / sqrt(max eps): complete once that bound passes the count-th k0.
+        let k_listed = vacuum.iter().map(|m| m.k).fold(0.0, f64::max);
+        if modes.len() >= count && k_listed / largest >= modes[count - 1].k0 {
+            modes.truncate(count);
+            return Ok(modes);
+        }
+        asked *= 2;
+    }
+}
+
 /// The lowest `count` resonances of a closed coaxial cavity, inner radius
 /// `inner_radius`, outer radius `outer_radius`, length `length` (metres),
 /// filled with `filling`: TEM_p (`k = p pi / d`, `p >= 1`), TM_mnp and TE_mnp

@@ -28,7 +28,9 @@ pub mod fibre;
 pub mod roots;
 pub mod sphere;
 
-pub use cavity::{coaxial_modes, cylinder_modes, CavityMode, CavityModeKind, Filling};
+pub use cavity::{
+    coaxial_modes, cylinder_modes, uniaxial_cylinder_modes, CavityMode, CavityModeKind, Filling,
+};
 pub use error::ReferenceError;
 pub use fibre::{FibreMode, FibreModeKind, StepIndexFibre};
 pub use sphere::{

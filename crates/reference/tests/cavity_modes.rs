@@ -8,7 +8,8 @@ mod common;
 use common::{fixture, num, rel_err};
 use serde_json::Value;
 use twistmode_reference::cavity::{
-    bessel_j_zeros, coaxial_modes, cylinder_modes, CavityMode, CavityModeKind, Filling,
+    bessel_j_zeros, coaxial_modes, cylinder_modes, uniaxial_cylinder_modes, CavityMode,
+    CavityModeKind, Filling,
 };
 
 fn kind_of(name: &str) -> CavityModeKind {
@@ -127,4 +128,37 @@ fn invalid_geometry_is_refused() {
     assert!(coaxial_modes(0.01, 0.005, 0.02, Filling::VACUUM, 5).is_err());
     assert!(cylinder_modes(-1.0, 0.02, Filling::VACUUM, 5).is_err());
     assert!(Filling::try_new(0.0, 1.0).is_err());
+}
+
+#[test]
+fn uniaxial_filling_reduces_to_isotropic_and_splits_te_from_tm() {
+    // Isotropic limit: eps_perp = eps_par = 2.1 must give the isotropic cavity's
+    // k0 = k / sqrt(2.1) (Pozar sec. 6.3), mode for mode.
+    let (a, d) = (12e-3, 20e-3);
+    let iso = cylinder_modes(a, d, Filling::try_new(2.1, 1.0).unwrap(), 15).unwrap();
+    let uni = uniaxial_cylinder_modes(a, d, 2.1, 2.1, 15).unwrap();
+    for (u, i) in uni.iter().zip(&iso) {
+        assert_eq!((u.kind, u.m, u.n, u.p), (i.kind, i.m, i.n, i.p));
+        assert!((u.k0 / i.k0 - 1.0).abs() < 1e-14);
+    }
+    // Anisotropic: TE modes see eps_perp only; TM_mn0 (no axial variation) sees eps_par
+    // only, so its k0 is the cut-off over sqrt(eps_par) (extraordinary wave with k_z = 0).
+    let (perp, par) = (9.0, 11.5);
+    let modes = uniaxial_cylinder_modes(a, d, perp, par, 20).unwrap();
+    assert!(modes.windows(2).all(|w| w[0].k0 <= w[1].k0));
+    for mode in &modes {
+        let kz = f64::from(mode.p) * std::f64::consts::PI / d;
+        let expected = match mode.kind {
+            CavityModeKind::Te => (mode.k_cutoff.powi(2) + kz * kz).sqrt() / perp.sqrt(),
+            _ => (mode.k_cutoff.powi(2) / par + kz * kz / perp).sqrt(),
+        };
+        assert!((mode.k0 / expected - 1.0).abs() < 1e-14);
+    }
+    let tm010 = modes
+        .iter()
+        .find(|m| m.kind == CavityModeKind::Tm && (m.m, m.n, m.p) == (0, 1, 0))
+        .unwrap();
+    // x_01 = 2.404825557695773 (A&S Table 9.5, from memory; checked by the mpmath
+    // fixture of bessel_zeros_match_mpmath_besseljzero).
+    assert!((tm010.k0 - 2.404825557695773 / a / par.sqrt()).abs() < 1e-9 * tm010.k0);
 }

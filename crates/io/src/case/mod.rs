@@ -122,20 +122,50 @@ pub enum SectionOutline {
     },
 }
 
-/// An isotropic material (relative values; loss as a positive imaginary
-/// part under the `exp(-i omega t)` convention).
+/// A 3x3 complex tensor, rows first.
+pub type Tensor = [[Complex64; 3]; 3];
+
+/// `value` times the identity.
+pub fn scalar_tensor(value: Complex64) -> Tensor {
+    let zero = Complex64::new(0.0, 0.0);
+    let mut t = [[zero; 3]; 3];
+    for (i, row) in t.iter_mut().enumerate() {
+        row[i] = value;
+    }
+    t
+}
+
+/// A material: relative permittivity and permeability tensors in the laboratory frame
+/// `(x, y, z)` — `z` the axis of a body of revolution or ring, or the axis of a straight
+/// guide. Loss is a positive imaginary part under the `exp(-i omega t)` convention.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Material {
-    /// Relative permittivity.
-    pub epsilon: Complex64,
-    /// Relative permeability.
-    pub mu: Complex64,
+    /// Relative permittivity tensor.
+    pub epsilon: Tensor,
+    /// Relative permeability tensor.
+    pub mu: Tensor,
 }
 
 impl Material {
-    /// Modulus of the refractive index, `sqrt(|epsilon * mu|)`.
+    /// An isotropic material.
+    pub fn isotropic(epsilon: Complex64, mu: Complex64) -> Material {
+        Material {
+            epsilon: scalar_tensor(epsilon),
+            mu: scalar_tensor(mu),
+        }
+    }
+
+    /// Whether both tensors are multiples of the identity.
+    pub fn is_isotropic(&self) -> bool {
+        let iso = |t: &Tensor| *t == scalar_tensor(t[0][0]);
+        iso(&self.epsilon) && iso(&self.mu)
+    }
+
+    /// Modulus of the largest refractive index, `sqrt(max |epsilon_ii| max |mu_ii|)`
+    /// (`sqrt(|epsilon mu|)` for an isotropic material); sets element sizes.
     pub fn index_modulus(&self) -> f64 {
-        (self.epsilon * self.mu).norm().sqrt()
+        let largest = |t: &Tensor| (0..3).map(|i| t[i][i].norm()).fold(0.0, f64::max);
+        (largest(&self.epsilon) * largest(&self.mu)).sqrt()
     }
 }
 

@@ -75,8 +75,16 @@ pub(crate) struct RawSection {
 pub(crate) enum RawMaterialValue {
     Real(f64),
     Complex([f64; 2]),
-    // Read so that the refusal can say "tensor"; used once tensors are supported.
-    Tensor(#[allow(dead_code)] [[f64; 3]; 3]),
+    /// Rows of a 3x3 tensor in the laboratory frame (x, y, z).
+    Tensor([[RawEntry; 3]; 3]),
+}
+
+/// One tensor entry: a number or `[re, im]`.
+#[derive(Deserialize, Debug, Clone, Copy)]
+#[serde(untagged)]
+pub(crate) enum RawEntry {
+    Real(f64),
+    Complex([f64; 2]),
 }
 
 #[derive(Deserialize, Debug)]

@@ -157,7 +157,7 @@ pub(crate) fn validate(raw: RawCase, base_dir: &Path) -> Result<Case> {
     let lambda0 = SPEED_OF_LIGHT / near_frequency;
 
     let body = body(raw.body.as_ref(), &len)?;
-    let materials = materials(&raw.materials)?;
+    let materials = materials(&raw.materials, &body)?;
     let section = section(raw.section.as_ref(), &len, &materials, base_dir)?;
     let surroundings = surroundings(&raw.surroundings, &len, lambda0)?;
     let mesh = mesh_settings(&raw.mesh, &body, &section)?;
@@ -346,16 +346,19 @@ fn body(raw: Option<&RawBody>, len: &Lengths) -> Result<Body> {
 }
 
 fn material_value(key: &str, raw: &RawMaterialValue) -> Result<Complex64> {
-    let z =
-        match raw {
-            RawMaterialValue::Real(x) => Complex64::new(*x, 0.0),
-            RawMaterialValue::Complex([re, im]) => Complex64::new(*re, *im),
-            RawMaterialValue::Tensor(_) => return Err(CaseError::new(
+    let z = match raw {
+        RawMaterialValue::Real(x) => Complex64::new(*x, 0.0),
+        RawMaterialValue::Complex([re, im]) => Complex64::new(*re, *im),
+        RawMaterialValue::Tensor(_) => {
+            return Err(CaseError::new(
                 key,
-                "anisotropic (3x3 tensor) materials are not supported yet",
-                "give a scalar: a number, or [re, im]; tensors are planned (docs/case-files.md)",
-            )),
-        };
+                format!(
+                    "{key} must be a scalar here (a tensor is accepted only for body materials)"
+                ),
+                "give a number, or [re, im]",
+            ))
+        }
+    };
     if !(z.re.is_finite() && z.im.is_finite()) {
         return Err(CaseError::new(
             key,
@@ -388,7 +391,97 @@ fn material_value(key: &str, raw: &RawMaterialValue) -> Result<Complex64> {
     Ok(z)
 }
 
-fn materials(raw: &BTreeMap<String, RawMaterial>) -> Result<BTreeMap<String, Material>> {
+/// A body material's tensor: a scalar times the identity, or a 3x3 tensor in the
+/// laboratory frame, checked for finite entries, invertibility, passivity (no gain) and
+/// the symmetry the body kind needs.
+fn material_tensor(key: &str, raw: &RawMaterialValue, body: &Body) -> Result<Tensor> {
+    let RawMaterialValue::Tensor(rows) = raw else {
+        return Ok(scalar_tensor(material_value(key, raw)?));
+    };
+    let mut t = scalar_tensor(Complex64::new(0.0, 0.0));
+    for (i, row) in rows.iter().enumerate() {
+        for (j, entry) in row.iter().enumerate() {
+            t[i][j] = match *entry {
+                RawEntry::Real(x) => Complex64::new(x, 0.0),
+                RawEntry::Complex([re, im]) => Complex64::new(re, im),
+            };
+            if !(t[i][j].re.is_finite() && t[i][j].im.is_finite()) {
+                return Err(CaseError::new(
+                    key,
+                    format!("{key} row {} column {} is not finite", i + 1, j + 1),
+                    "give ordinary numbers (not nan or inf)",
+                ));
+            }
+        }
+    }
+    let scale = t.iter().flatten().map(|z| z.norm()).fold(0.0, f64::max);
+    let det = t[0][0] * (t[1][1] * t[2][2] - t[1][2] * t[2][1])
+        - t[0][1] * (t[1][0] * t[2][2] - t[1][2] * t[2][0])
+        + t[0][2] * (t[1][0] * t[2][1] - t[1][1] * t[2][0]);
+    if scale == 0.0 || det.norm() <= 1e-12 * scale.powi(3) {
+        return Err(CaseError::new(
+            key,
+            format!("{key} is singular (its determinant is zero)"),
+            "give an invertible tensor; for vacuum-like directions use 1 on the diagonal",
+        ));
+    }
+    // Passivity: the anti-Hermitian part (t - t^H) / (2i) must be positive
+    // semi-definite (no direction with gain), i.e. all its principal minors >= 0.
+    let h = |i: usize, j: usize| (t[i][j] - t[j][i].conj()) / Complex64::new(0.0, 2.0);
+    let tol = 1e-12 * scale;
+    let minors_ok = (0..3).all(|i| h(i, i).re >= -tol)
+        && [(0, 1), (0, 2), (1, 2)]
+            .iter()
+            .all(|&(i, j)| (h(i, i) * h(j, j) - h(i, j) * h(j, i)).re >= -tol * scale)
+        && {
+            let d = h(0, 0) * (h(1, 1) * h(2, 2) - h(1, 2) * h(2, 1))
+                - h(0, 1) * (h(1, 0) * h(2, 2) - h(1, 2) * h(2, 0))
+                + h(0, 2) * (h(1, 0) * h(2, 1) - h(1, 1) * h(2, 0));
+            d.re >= -tol * scale * scale
+        };
+    if !minors_ok {
+        return Err(CaseError::new(
+            key,
+            format!("{key} describes gain in some direction under the exp(-i omega t) convention used here"),
+            "give loss as positive imaginary parts on the diagonal (and a passive tensor: (t - t^H)/(2i) positive semi-definite)",
+        ));
+    }
+    let same = |a: Complex64, b: Complex64| (a - b).norm() <= 1e-12 * scale;
+    let zero = Complex64::new(0.0, 0.0);
+    match body {
+        Body::Revolution | Body::Ring { .. } => {
+            let invariant = same(t[0][2], zero)
+                && same(t[1][2], zero)
+                && same(t[2][0], zero)
+                && same(t[2][1], zero)
+                && same(t[0][0], t[1][1])
+                && same(t[0][1], -t[1][0]);
+            if !invariant {
+                return Err(CaseError::new(
+                    key,
+                    format!(
+                        "{key} is not invariant under rotation about the z axis, which a body of revolution or a ring needs (its modes would mix azimuthal orders)"
+                    ),
+                    "give [[a, b, 0], [-b, a, 0], [0, 0, c]] (a uniaxial medium with its axis along z: b = 0)",
+                ));
+            }
+        }
+        Body::Straight { twist_rate } if *twist_rate != 0.0 && t != scalar_tensor(t[0][0]) => {
+            return Err(CaseError::new(
+                key,
+                format!("{key} is anisotropic, but the guide twists (body.twist_rate != 0): the tensor would turn with the section, which this version does not model"),
+                "give an isotropic value (a number, or [re, im]), or set body.twist_rate = 0",
+            ));
+        }
+        Body::Straight { .. } => {}
+    }
+    Ok(t)
+}
+
+fn materials(
+    raw: &BTreeMap<String, RawMaterial>,
+    body: &Body,
+) -> Result<BTreeMap<String, Material>> {
     raw.iter()
         .map(|(name, m)| {
             let eps_key = format!("materials.{name}.epsilon");
@@ -399,13 +492,13 @@ fn materials(raw: &BTreeMap<String, RawMaterial>) -> Result<BTreeMap<String, Mat
                 )
             })?;
             let mu = match &m.mu {
-                Some(v) => material_value(&format!("materials.{name}.mu"), v)?,
-                None => Complex64::new(1.0, 0.0),
+                Some(v) => material_tensor(&format!("materials.{name}.mu"), v, body)?,
+                None => scalar_tensor(Complex64::new(1.0, 0.0)),
             };
             Ok((
                 name.clone(),
                 Material {
-                    epsilon: material_value(&eps_key, epsilon)?,
+                    epsilon: material_tensor(&eps_key, epsilon, body)?,
                     mu,
                 },
             ))
