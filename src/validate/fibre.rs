@@ -371,10 +371,11 @@ pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
         ),
         Level::Full => (
             knobs(2, 8.0, 0.5, 10.0),
-            knobs(2, 16.0, 0.15, 4.0),
-            // Measured worst 4.7e-7 (HE61) at 210k unknowns: the target is
-            // not reached for the top modes at this size (doc).
-            6e-7,
+            // Core a/28 for the top modes of large U (EH41, HE13: core-limited),
+            // cladding edge 0.065a for TE0m/TM0m and HE51/HE61 (cladding-limited);
+            // the wall at 3.5a moves nothing measurable (doc).
+            knobs(2, 28.0, 0.065, 3.5),
+            target,
             [4.0, 8.0],
         ),
     };
