@@ -449,8 +449,11 @@ fn describe_modes(
         let k0 = k0_from_eigenvalue(pair.lambda);
         let field = FieldEvaluator::new(problem, system, &pair.vector);
         let energy = field.energy();
-        if !settings.keep_all {
-            if energy.pml_fraction > settings.max_pml_fraction {
+        // With a complex target (search.near_q) very leaky resonances are sought,
+        // whose fields reach far into the air and PML: flag instead of dropping.
+        let pml_heavy = energy.pml_fraction > settings.max_pml_fraction;
+        if !settings.keep_all && case.search.near_q.is_none() {
+            if pml_heavy {
                 solver.pml_dropped += 1;
                 continue;
             }
@@ -476,7 +479,7 @@ fn describe_modes(
                 reference_radius(case).map(|r| order / (k0.re * r)),
             ),
         };
-        let flags = trust_flags(&TrustInputs {
+        let mut flags = trust_flags(&TrustInputs {
             k0_re: k0.re,
             k0_im: k0.im,
             residual: pair.residual,
@@ -488,6 +491,11 @@ fn describe_modes(
             q_limit: settings.q_limit,
             has_pml: !matches!(mesh.domain().map(|d| d.pml), None | Some(PmlGeometry::None)),
         });
+        if pml_heavy {
+            flags.push(Flag::PmlDominated {
+                pml_fraction: energy.pml_fraction,
+            });
+        }
         let f = frequency_hz(k0);
         // |Im k0| at round-off level (Q > 5e11): a lossless mode, Q infinite.
         let q = if k0.im.abs() <= 1e-12 * k0.re.abs() {

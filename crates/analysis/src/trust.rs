@@ -32,6 +32,14 @@ pub enum Flag {
         /// Fraction of the electric energy inside the body.
         confinement: f64,
     },
+    /// More of the electric energy lies in the PML than a resonance normally has:
+    /// either a very leaky resonance (kept because a complex target was given) or a
+    /// mode of the PML itself. A resonance keeps its `k0` when the PML changes; a
+    /// PML mode does not.
+    PmlDominated {
+        /// Fraction of the electric energy inside the PML.
+        pml_fraction: f64,
+    },
 }
 
 impl Flag {
@@ -44,6 +52,12 @@ impl Flag {
             Flag::PmlInsideCaustic { .. } => "PML inside caustic: Q unreliable".into(),
             Flag::LowConfinement { confinement } => {
                 format!("confinement {:.0}%", 100.0 * confinement)
+            }
+            Flag::PmlDominated { pml_fraction } => {
+                format!(
+                    "{:.0}% in PML: vary the PML to confirm",
+                    100.0 * pml_fraction
+                )
             }
         }
     }
