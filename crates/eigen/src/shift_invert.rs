@@ -147,6 +147,33 @@ pub struct ShiftInvert<'p> {
     pub(crate) applications: std::sync::atomic::AtomicUsize,
 }
 
+/// The union pattern of `K` and `M`, where each stored value goes in it, and its transpose.
+struct Patterns {
+    col_ptr: Vec<usize>,
+    row_idx: Vec<usize>,
+    k_pos: Vec<usize>,
+    m_pos: Vec<usize>,
+    at_col_ptr: Vec<usize>,
+    at_row_idx: Vec<usize>,
+    at_pos: Vec<usize>,
+}
+
+impl Patterns {
+    fn of(pencil: &Pencil) -> Patterns {
+        let (col_ptr, row_idx, k_pos, m_pos) = union_pattern(pencil.k.as_ref(), pencil.m.as_ref());
+        let (at_col_ptr, at_row_idx, at_pos) = transpose_pattern(pencil.dim(), &col_ptr, &row_idx);
+        Patterns {
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+            at_col_ptr,
+            at_row_idx,
+            at_pos,
+        }
+    }
+}
+
 /// The symbolic side of one factorisation kind.
 #[derive(Debug)]
 enum Engine {
@@ -234,16 +261,31 @@ impl<'p> ShiftInvert<'p> {
     pub fn try_new(pencil: &'p Pencil) -> Result<Self, EigenError> {
         let start = Instant::now();
         let n = pencil.dim();
-        let (col_ptr, row_idx, k_pos, m_pos) = union_pattern(pencil.k.as_ref(), pencil.m.as_ref());
-        let (at_col_ptr, at_row_idx, at_pos) = transpose_pattern(n, &col_ptr, &row_idx);
+        let patterns = Patterns::of(pencil);
+        let Patterns {
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+            at_col_ptr,
+            at_row_idx,
+            at_pos,
+        } = &patterns;
         let symmetric = at_col_ptr == col_ptr
             && at_row_idx == row_idx
-            && is_symmetric(pencil.k.val(), &k_pos, &col_ptr, &at_pos)
-            && is_symmetric(pencil.m.val(), &m_pos, &col_ptr, &at_pos);
+            && is_symmetric(pencil.k.val(), k_pos, col_ptr, at_pos)
+            && is_symmetric(pencil.m.val(), m_pos, col_ptr, at_pos);
         if !symmetric {
-            return Self::lu(pencil, FillOrdering::Colamd, start);
+            return Self::lu(pencil, patterns, FillOrdering::Colamd, start);
         }
-        let (analysis, fill_nnz) = symmetric_analysis(n, &col_ptr, &row_idx)?;
+        let (analysis, fill_nnz) = symmetric_analysis(n, col_ptr, row_idx)?;
+        let Patterns {
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+            ..
+        } = patterns;
         let union = (col_ptr, row_idx, k_pos, m_pos);
         Ok(Self::with_engine(
             pencil,
@@ -282,15 +324,26 @@ impl<'p> ShiftInvert<'p> {
         pencil: &'p Pencil,
         ordering: FillOrdering,
     ) -> Result<Self, EigenError> {
-        Self::lu(pencil, ordering, Instant::now())
+        let start = Instant::now();
+        Self::lu(pencil, Patterns::of(pencil), ordering, start)
     }
 
-    fn lu(pencil: &'p Pencil, ordering: FillOrdering, start: Instant) -> Result<Self, EigenError> {
+    fn lu(
+        pencil: &'p Pencil,
+        patterns: Patterns,
+        ordering: FillOrdering,
+        start: Instant,
+    ) -> Result<Self, EigenError> {
         let n = pencil.dim();
-        let k = pencil.k.as_ref();
-        let m = pencil.m.as_ref();
-        let (col_ptr, row_idx, k_pos, m_pos) = union_pattern(k, m);
-        let (at_col_ptr, at_row_idx, at_pos) = transpose_pattern(n, &col_ptr, &row_idx);
+        let Patterns {
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+            at_col_ptr,
+            at_row_idx,
+            at_pos,
+        } = patterns;
         let a = SymbolicSparseColMatRef::new_checked(n, n, &col_ptr, None, &row_idx);
         let at = SymbolicSparseColMatRef::new_checked(n, n, &at_col_ptr, None, &at_row_idx);
         let nnz = row_idx.len();
