@@ -462,7 +462,7 @@ fn material_tensor(key: &str, raw: &RawMaterialValue, body: &Body) -> Result<Ten
                     format!(
                         "{key} is not invariant under rotation about the z axis, which a body of revolution or a ring needs (its modes would mix azimuthal orders)"
                     ),
-                    "give [[a, b, 0], [-b, a, 0], [0, 0, c]] (a uniaxial medium with its axis along z: b = 0)",
+                    "give [[a, b, 0], [-b, a, 0], [0, 0, c]] (uniaxial with its axis along z: b = 0; lossless gyrotropic: b = [0, g], i.e. i g)",
                 ));
             }
         }
