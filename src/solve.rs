@@ -593,11 +593,31 @@ fn locate(mesh: &Mesh, p: [f64; 2]) -> Option<(usize, f64, f64)> {
 
 /// Runs the whole pipeline on a case.
 pub fn solve_case(case: &Case, settings: &SolveSettings) -> Result<SolveOutcome, SolveError> {
+    solve_case_reporting(case, settings, |_| {})
+}
+
+/// [`solve_case`], telling `stage` what it starts on (for a progress display): the
+/// mesh, the assembly, the eigensolver (factorisation and Krylov-Schur), the modes.
+pub fn solve_case_reporting(
+    case: &Case,
+    settings: &SolveSettings,
+    mut stage: impl FnMut(&str),
+) -> Result<SolveOutcome, SolveError> {
+    stage("meshing the section");
     let (mesh, mesh_facts) = build_mesh(case)?;
     let setup = set_up(case, &mesh)?;
     let start = Instant::now();
+    stage(&format!(
+        "assembling ({} triangles, order {})",
+        mesh_facts.triangles, mesh_facts.order
+    ));
     let problem = SectionProblem::try_new(&mesh, setup)?;
     let system = problem.assemble(mode_order(case))?;
+    stage(&format!(
+        "factorising and iterating ({} unknowns, {} pairs nearest the target)",
+        system.stiffness.nrows(),
+        case.search.count + 4
+    ));
     let assembly_seconds = start.elapsed().as_secs_f64();
     // Ask for a few more pairs than modes wanted; when PML, box or static
     // modes crowd the wanted ones out, ask once more for twice as many

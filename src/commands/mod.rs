@@ -3,7 +3,7 @@ use std::path::Path;
 
 use anyhow::{Context, Result};
 use twistmode::report::{modes_table, write_tables, ResultsDocument};
-use twistmode::solve::{solve_case, SolveOutcome, SolveSettings};
+use twistmode::solve::{solve_case_reporting, SolveOutcome, SolveSettings};
 use twistmode_io::case::{parse_set_argument, Body, Case};
 use twistmode_io::vtk::{write_section_vtu, NodalField};
 
@@ -74,7 +74,19 @@ fn solve_and_write(
 ) -> Result<()> {
     make_dir(out)?;
     eprintln!("solving: {}", body_words(case));
-    let outcome: SolveOutcome = solve_case(case, settings)?;
+    // A spinner with the current stage and the time spent (stderr; hidden when
+    // stderr is not a terminal).
+    let spinner = indicatif::ProgressBar::new_spinner();
+    spinner.set_style(
+        indicatif::ProgressStyle::with_template("{spinner} {msg} ({elapsed})")
+            .expect("valid template"),
+    );
+    spinner.enable_steady_tick(std::time::Duration::from_millis(200));
+    let outcome = solve_case_reporting(case, settings, |stage| {
+        spinner.set_message(stage.to_string())
+    });
+    spinner.finish_and_clear();
+    let outcome: SolveOutcome = outcome?;
     let doc = ResultsDocument::new(&outcome, case_file, body_words(case));
     let mut written = write_tables(&doc, out)?;
     let msh = out.join("mesh.msh");
