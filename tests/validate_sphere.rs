@@ -239,3 +239,48 @@ fn pml_study() {
     // twistmode_reference::mie_resonance: the nearest pair is the resonance.
     assert!((k - exact.k0a).norm() < 1e-2 * exact.k0a.norm());
 }
+
+/// The user path with a complex target and default settings: PML-heavy modes near
+/// the target are checked against a PML 1.5 times thicker; the modes of the PML move
+/// and are dropped, the resonance stays (Mie theory, Bohren & Huffman ch. 4, via
+/// twistmode_reference::mie_resonance, checked against mpmath).
+#[test]
+fn leaky_resonance_survives_the_pml_check_and_pml_modes_do_not() {
+    let mut probe = SphereProbe::new(1.5, 1, 1, SpherePolarization::Tm, 1).leaky();
+    probe.resolution = 16.0;
+    let exact = sphere::exact_resonance(&probe).unwrap();
+    let text = sphere::case_text(&probe, &exact);
+    let case = twistmode_io::Case::from_toml_str(&text, &[]).expect("probe case");
+    assert!(case.search.near_q.is_some());
+    let outcome = twistmode::solve::solve_case(&case, &twistmode::solve::SolveSettings::default())
+        .expect("solve");
+    let radius = 1e-6 * sphere::RADIUS_UM;
+    for m in &outcome.modes {
+        println!(
+            "kept: k0 a {:.6} {:+.6}i flags {:?}",
+            m.k0[0] * radius,
+            m.k0[1] * radius,
+            m.flags
+        );
+    }
+    println!("PML modes dropped: {}", outcome.solver.pml_dropped);
+    assert!(
+        outcome.solver.pml_dropped >= 1,
+        "the check dropped no PML mode"
+    );
+    let found = outcome
+        .modes
+        .iter()
+        .find(|m| (m.k0[0] * radius - exact.k0a.re).abs() < 2e-3 * exact.k0a.re)
+        .expect("the resonance is kept");
+    let change = found.flags.iter().find_map(|f| match f {
+        twistmode_analysis::Flag::PmlDominated {
+            k0_change_with_pml, ..
+        } => *k0_change_with_pml,
+        _ => None,
+    });
+    assert!(
+        matches!(change, Some(c) if c < twistmode::solve::PML_MODE_CHANGE),
+        "{change:?}"
+    );
+}

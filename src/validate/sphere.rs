@@ -41,7 +41,7 @@ pub const SOURCE: &str = "Mie theory, Bohren & Huffman (1983) ch. 4 eq. 4.53; \
      twistmode_reference::sphere::mie_resonance (checked against tools/reference_fixtures.py, mpmath)";
 
 /// Radius of the probed spheres, micrometres (any scale gives the same `k0 a`).
-const RADIUS_UM: f64 = 1.0;
+pub const RADIUS_UM: f64 = 1.0;
 
 /// Largest Q whose value is checked (the issue's bound: above it the
 /// imaginary part is below the discretisation error of the real part).

@@ -39,6 +39,9 @@ pub enum Flag {
     PmlDominated {
         /// Fraction of the electric energy inside the PML.
         pml_fraction: f64,
+        /// Relative change of the complex `k0` when the PML was made thicker, if that
+        /// check ran (small: a resonance; modes that moved are not reported).
+        k0_change_with_pml: Option<f64>,
     },
 }
 
@@ -53,12 +56,20 @@ impl Flag {
             Flag::LowConfinement { confinement } => {
                 format!("confinement {:.0}%", 100.0 * confinement)
             }
-            Flag::PmlDominated { pml_fraction } => {
-                format!(
-                    "{:.0}% in PML: vary the PML to confirm",
-                    100.0 * pml_fraction
-                )
-            }
+            Flag::PmlDominated {
+                pml_fraction,
+                k0_change_with_pml: None,
+            } => format!(
+                "{:.0}% in PML: vary the PML to confirm",
+                100.0 * pml_fraction
+            ),
+            Flag::PmlDominated {
+                pml_fraction,
+                k0_change_with_pml: Some(change),
+            } => format!(
+                "{:.0}% in PML; k0 moved {change:.0e} with a thicker PML",
+                100.0 * pml_fraction
+            ),
         }
     }
 }
