@@ -147,14 +147,20 @@ pub struct ShiftInvert<'p> {
     pub(crate) applications: std::sync::atomic::AtomicUsize,
 }
 
-/// The union pattern of `K` and `M`, where each stored value goes in it, and its transpose.
-struct Patterns {
+/// The union pattern of `K` and `M` and where each stored value goes in it.
+struct Union {
     col_ptr: Vec<usize>,
     row_idx: Vec<usize>,
     k_pos: Vec<usize>,
     m_pos: Vec<usize>,
+}
+
+/// The union pattern and its transpose.
+struct Patterns {
+    union: Union,
     at_col_ptr: Vec<usize>,
     at_row_idx: Vec<usize>,
+    /// position in the transposed pattern of every union entry
     at_pos: Vec<usize>,
 }
 
@@ -163,14 +169,25 @@ impl Patterns {
         let (col_ptr, row_idx, k_pos, m_pos) = union_pattern(pencil.k.as_ref(), pencil.m.as_ref());
         let (at_col_ptr, at_row_idx, at_pos) = transpose_pattern(pencil.dim(), &col_ptr, &row_idx);
         Patterns {
-            col_ptr,
-            row_idx,
-            k_pos,
-            m_pos,
+            union: Union {
+                col_ptr,
+                row_idx,
+                k_pos,
+                m_pos,
+            },
             at_col_ptr,
             at_row_idx,
             at_pos,
         }
+    }
+
+    /// Whether the pattern is symmetric and `K`, `M` are complex-symmetric.
+    fn is_symmetric(&self, pencil: &Pencil) -> bool {
+        let u = &self.union;
+        self.at_col_ptr == u.col_ptr
+            && self.at_row_idx == u.row_idx
+            && is_symmetric(pencil.k.val(), &u.k_pos, &u.col_ptr, &self.at_pos)
+            && is_symmetric(pencil.m.val(), &u.m_pos, &u.col_ptr, &self.at_pos)
     }
 }
 
@@ -260,33 +277,13 @@ impl<'p> ShiftInvert<'p> {
     /// [`FillOrdering::Colamd`].
     pub fn try_new(pencil: &'p Pencil) -> Result<Self, EigenError> {
         let start = Instant::now();
-        let n = pencil.dim();
         let patterns = Patterns::of(pencil);
-        let Patterns {
-            col_ptr,
-            row_idx,
-            k_pos,
-            m_pos,
-            at_col_ptr,
-            at_row_idx,
-            at_pos,
-        } = &patterns;
-        let symmetric = at_col_ptr == col_ptr
-            && at_row_idx == row_idx
-            && is_symmetric(pencil.k.val(), k_pos, col_ptr, at_pos)
-            && is_symmetric(pencil.m.val(), m_pos, col_ptr, at_pos);
-        if !symmetric {
+        if !patterns.is_symmetric(pencil) {
             return Self::lu(pencil, patterns, FillOrdering::Colamd, start);
         }
-        let (analysis, fill_nnz) = symmetric_analysis(n, col_ptr, row_idx)?;
-        let Patterns {
-            col_ptr,
-            row_idx,
-            k_pos,
-            m_pos,
-            ..
-        } = patterns;
-        let union = (col_ptr, row_idx, k_pos, m_pos);
+        let union = patterns.union;
+        let (analysis, fill_nnz) =
+            symmetric_analysis(pencil.dim(), &union.col_ptr, &union.row_idx)?;
         Ok(Self::with_engine(
             pencil,
             union,
@@ -299,7 +296,12 @@ impl<'p> ShiftInvert<'p> {
     /// An operator with its analysis done and no factorisation yet.
     fn with_engine(
         pencil: &'p Pencil,
-        (col_ptr, row_idx, k_pos, m_pos): (Vec<usize>, Vec<usize>, Vec<usize>, Vec<usize>),
+        Union {
+            col_ptr,
+            row_idx,
+            k_pos,
+            m_pos,
+        }: Union,
         engine: Engine,
         fill_nnz: usize,
         start: Instant,
@@ -336,15 +338,13 @@ impl<'p> ShiftInvert<'p> {
     ) -> Result<Self, EigenError> {
         let n = pencil.dim();
         let Patterns {
-            col_ptr,
-            row_idx,
-            k_pos,
-            m_pos,
+            union,
             at_col_ptr,
             at_row_idx,
             at_pos,
         } = patterns;
-        let a = SymbolicSparseColMatRef::new_checked(n, n, &col_ptr, None, &row_idx);
+        let (col_ptr, row_idx) = (&union.col_ptr, &union.row_idx);
+        let a = SymbolicSparseColMatRef::new_checked(n, n, col_ptr, None, row_idx);
         let at = SymbolicSparseColMatRef::new_checked(n, n, &at_col_ptr, None, &at_row_idx);
         let nnz = row_idx.len();
 
@@ -412,7 +412,6 @@ impl<'p> ShiftInvert<'p> {
             symbolic,
             ordering,
         });
-        let union = (col_ptr, row_idx, k_pos, m_pos);
         Ok(Self::with_engine(pencil, union, engine, fill_nnz, start))
     }
 
