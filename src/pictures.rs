@@ -7,7 +7,7 @@ use twistmode_io::case::Case;
 use twistmode_io::plot::{plot_mesh, plot_section_field_in, Colormap, FieldValues, PlotError};
 use twistmode_mesh::Mesh;
 
-use crate::solve::SolveOutcome;
+use twistmode_pipeline::SolveOutcome;
 
 /// Writes the mesh preview (regions, PML, boundary tags) to `path`.
 pub fn mesh_preview(mesh: &Mesh, case: &Case, path: &Path) -> Result<(), PlotError> {
@@ -32,7 +32,7 @@ type FieldMap = (&'static str, &'static str, fn(&[Complex64; 3]) -> f64);
 /// side on every side (clipped to the mesh), where the field of a confined
 /// mode lives.
 fn field_window(mesh: &Mesh) -> [f64; 4] {
-    let b = crate::solve::body_box(mesh);
+    let b = twistmode_pipeline::body_box(mesh);
     let all = mesh.points().iter().fold(
         [
             f64::INFINITY,

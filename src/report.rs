@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use serde::Serialize;
 use twistmode_io::output::{write_json, Table};
 
-use crate::solve::{MeshFacts, ModeReport, SolveOutcome, SolverFacts};
+use twistmode_pipeline::{MeshFacts, ModeReport, SolveOutcome, SolverFacts};
 
 /// Version tag of the `modes.json` layout.
 pub const SCHEMA: &str = "twistmode-modes/1";

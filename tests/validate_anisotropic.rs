@@ -12,7 +12,7 @@
 //!   not vary along their own direction).
 //!
 //! The invented "test crystal" values are ours: eps_perp = 9.0, eps_par = 11.5.
-use twistmode::solve::{solve_case, SolveSettings};
+use twistmode::pipeline::{solve_case, SolveSettings};
 use twistmode_io::Case;
 use twistmode_reference::{uniaxial_cylinder_modes, CavityModeKind};
 

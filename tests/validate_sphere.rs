@@ -176,8 +176,8 @@ fn pml_study() {
     let exact = sphere::exact_resonance(&probe).unwrap();
     let case =
         twistmode_io::case::Case::from_toml_str(&sphere::case_text(&probe, &exact), &[]).unwrap();
-    let (mesh, _) = twistmode::solve::build_mesh(&case).unwrap();
-    let mut setup = twistmode::solve::set_up(&case, &mesh).unwrap();
+    let (mesh, _) = twistmode::pipeline::build_mesh(&case).unwrap();
+    let mut setup = twistmode::pipeline::set_up(&case, &mesh).unwrap();
     let a = 1e-6;
     let k0 = exact.k0a.re / a;
     if let PmlStretch::Radial {
@@ -252,8 +252,9 @@ fn leaky_resonance_survives_the_pml_check_and_pml_modes_do_not() {
     let text = sphere::case_text(&probe, &exact);
     let case = twistmode_io::Case::from_toml_str(&text, &[]).expect("probe case");
     assert!(case.search.near_q.is_some());
-    let outcome = twistmode::solve::solve_case(&case, &twistmode::solve::SolveSettings::default())
-        .expect("solve");
+    let outcome =
+        twistmode::pipeline::solve_case(&case, &twistmode::pipeline::SolveSettings::default())
+            .expect("solve");
     let radius = 1e-6 * sphere::RADIUS_UM;
     for m in &outcome.modes {
         println!(
@@ -280,7 +281,7 @@ fn leaky_resonance_survives_the_pml_check_and_pml_modes_do_not() {
         _ => None,
     });
     assert!(
-        matches!(change, Some(c) if c < twistmode::solve::PML_MODE_CHANGE),
+        matches!(change, Some(c) if c < twistmode::pipeline::PML_MODE_CHANGE),
         "{change:?}"
     );
 }

@@ -2,8 +2,8 @@
 use std::path::Path;
 
 use anyhow::{Context, Result};
+use twistmode::pipeline::{solve_case_reporting, SolveOutcome, SolveSettings};
 use twistmode::report::{modes_table, write_tables, ResultsDocument};
-use twistmode::solve::{solve_case_reporting, SolveOutcome, SolveSettings};
 use twistmode_io::case::{parse_set_argument, Body, Case};
 use twistmode_io::vtk::{write_section_vtu, NodalField};
 
@@ -41,7 +41,7 @@ fn make_dir(dir: &Path) -> Result<()> {
 fn mesh(args: &CaseArgs) -> Result<()> {
     let case = load(args)?;
     make_dir(&args.out)?;
-    let (mesh, facts) = twistmode::solve::build_mesh(&case)?;
+    let (mesh, facts) = twistmode::pipeline::build_mesh(&case)?;
     let q = mesh.quality();
     println!("mesh: {q}");
     println!("made in {:.3} s", facts.seconds);
@@ -177,7 +177,7 @@ type ValidationGroup = (
     &'static str,
     fn(
         twistmode::validate::Level,
-    ) -> Result<Vec<twistmode::validate::Check>, twistmode::solve::SolveError>,
+    ) -> Result<Vec<twistmode::validate::Check>, twistmode::validate::ValidateError>,
 );
 
 fn validate(args: &ValidateArgs) -> Result<()> {
@@ -215,7 +215,7 @@ fn validate(args: &ValidateArgs) -> Result<()> {
 }
 
 fn sweep(args: &SweepArgs) -> Result<()> {
-    use twistmode::sweep::{run_sweep, SweepPlan};
+    use twistmode::pipeline::sweep::{run_sweep, SweepPlan};
     use twistmode_io::plot::{plot_lines, Series};
     if args.step.is_nan()
         || args.step <= 0.0
@@ -256,7 +256,7 @@ fn sweep(args: &SweepArgs) -> Result<()> {
         .expect("valid template"),
     );
     let case_path = args.case.case.clone();
-    let load = move |ov: &[(String, String)]| -> Result<Case, twistmode::solve::SolveError> {
+    let load = move |ov: &[(String, String)]| -> Result<Case, twistmode::pipeline::PipelineError> {
         Ok(Case::load(&case_path, ov)?)
     };
     let outcome = run_sweep(

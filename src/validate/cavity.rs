@@ -23,7 +23,8 @@ use twistmode_reference::cavity::{coaxial_modes, cylinder_modes, CavityMode, Cav
 use twistmode_reference::Filling;
 
 use super::{Check, Level};
-use crate::solve::{set_up, SolveError};
+use crate::validate::ValidateError;
+use twistmode_pipeline::set_up;
 
 /// Where the exact resonances come from.
 const SOURCE: &str = "Pozar, Microwave Engineering, 4th ed., sec. 6.3 (cylinder), Marcuvitz, \
@@ -75,7 +76,7 @@ impl Cavity {
     }
 
     /// The lowest `count` exact resonances.
-    pub fn exact_modes(&self, count: usize) -> Result<Vec<CavityMode>, SolveError> {
+    pub fn exact_modes(&self, count: usize) -> Result<Vec<CavityMode>, ValidateError> {
         let [a, b, d] = self.radii_length;
         let filling = Filling::try_new(self.epsilon, 1.0).map_err(reference_error)?;
         let modes = if a == 0.0 {
@@ -120,8 +121,8 @@ near_frequency = "10 GHz"
     }
 }
 
-fn reference_error(e: twistmode_reference::ReferenceError) -> SolveError {
-    SolveError::Reference(e)
+fn reference_error(e: twistmode_reference::ReferenceError) -> ValidateError {
+    ValidateError::Reference(e)
 }
 
 /// The computed resonances of one cavity on one mesh.
@@ -163,12 +164,12 @@ impl Computed {
 }
 
 /// The case of `cavity` at element order `order`, through the user path.
-fn case_of(cavity: &Cavity, order: u8) -> Result<Case, SolveError> {
+fn case_of(cavity: &Cavity, order: u8) -> Result<Case, ValidateError> {
     Ok(Case::from_toml_str(&cavity.case_toml(order), &[])?)
 }
 
 /// The generated mesh of `case` with the largest edge `max_edge`.
-fn mesh_of(case: &Case, max_edge: f64) -> Result<twistmode_mesh::Mesh, SolveError> {
+fn mesh_of(case: &Case, max_edge: f64) -> Result<twistmode_mesh::Mesh, ValidateError> {
     let mut spec = case.generator_spec()?;
     spec.body.max_edge = max_edge;
     Ok(twistmode_mesh::generate(&spec)?)
@@ -291,7 +292,7 @@ pub fn solve_cavity(
     beyond: &[CavityMode],
     order: u8,
     max_edge: f64,
-) -> Result<Computed, SolveError> {
+) -> Result<Computed, ValidateError> {
     let start = Instant::now();
     let case = case_of(cavity, order)?;
     let mesh = mesh_of(&case, max_edge)?;
@@ -457,7 +458,7 @@ pub fn probe_low_end(
     order: u8,
     max_edge: f64,
     count_statics: bool,
-) -> Result<Vec<LowEnd>, SolveError> {
+) -> Result<Vec<LowEnd>, ValidateError> {
     let case = case_of(cavity, order)?;
     let mesh = mesh_of(&case, max_edge)?;
     let problem = SectionProblem::try_new(&mesh, set_up(&case, &mesh)?)?;
@@ -555,7 +556,7 @@ const BEYOND: usize = 4 * MODES;
 /// resonance checks there use an honest bound above the measured errors
 /// (1e-4; measured max 5.3e-5). Full checks every resonance on its finest
 /// plain order-2 mesh against the 1e-8 target (no extrapolation).
-pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
+pub fn run(level: Level) -> Result<Vec<Check>, ValidateError> {
     let mut checks = Vec::new();
     for cavity in [Cavity::cylinder(), Cavity::coaxial()] {
         let exact = cavity.exact_modes(MODES)?;

@@ -30,7 +30,8 @@ use twistmode_mesh::{generate, Surroundings};
 use twistmode_reference::{FibreModeKind, StepIndexFibre};
 
 use super::{Check, Level};
-use crate::solve::{set_up, SolveError};
+use crate::validate::ValidateError;
+use twistmode_pipeline::set_up;
 
 /// Where the exact effective indices come from.
 const FIBRE_SOURCE: &str = "Snyder & Love, Optical Waveguide Theory (1983) ch. 12, Table 12-3; \
@@ -225,7 +226,7 @@ pub fn solve_straight(
     twist_rate: f64,
     knobs: MeshKnobs,
     expected: &[f64],
-) -> Result<GuidedSolve, SolveError> {
+) -> Result<GuidedSolve, ValidateError> {
     let start = Instant::now();
     // Shift at the bottom of the window: no physical mode lies below beta / n1.
     let k0_low = beta / fibre.n_core;
@@ -290,7 +291,7 @@ struct Found {
     complete: bool,
 }
 
-/// The pipeline of [`crate::solve::solve_case`] with the element sizes of
+/// The pipeline of [`twistmode_pipeline::solve_case`] with the element sizes of
 /// `knobs`: the case's generator spec, re-sized; set-up; assembly at `order`
 /// (`beta` or `m`); then one shift-invert solve per window. The pipeline's
 /// single solve for some 40 pairs leaves the outer ones unconverged (its
@@ -302,9 +303,9 @@ fn solve_k0(
     knobs: MeshKnobs,
     order: f64,
     search: &[Window],
-) -> Result<Found, SolveError> {
+) -> Result<Found, ValidateError> {
     let MeshSource::Generate(mut spec) = case.mesh_source()? else {
-        return Err(SolveError::Incomplete(
+        return Err(ValidateError::Incomplete(
             "fibre cases use the generator".into(),
         ));
     };
@@ -356,7 +357,7 @@ fn solve_k0(
 }
 
 /// Runs the fibre checks at the given level.
-pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
+pub fn run(level: Level) -> Result<Vec<Check>, ValidateError> {
     let mut checks = Vec::new();
     // Tolerances (relative errors of n_eff): the issue target 1e-7 (absolute)
     // where the level reaches it, else an honest bound above what was measured
@@ -391,7 +392,7 @@ pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
 /// `beta' = beta_lab + nu alpha` (formulation note sec. 7: a change of
 /// frame), so at fixed `beta'` the HE_11 pair splits into the lab modes with
 /// `beta_lab = beta' -+ alpha` (`nu = +-1`).
-fn twisted_fibre(knobs: MeshKnobs, tolerance: f64) -> Result<Vec<Check>, SolveError> {
+fn twisted_fibre(knobs: MeshKnobs, tolerance: f64) -> Result<Vec<Check>, ValidateError> {
     let fibre = SINGLE_MODE;
     let reference = fibre.reference();
     let beta = fibre.beta();
@@ -455,7 +456,7 @@ fn knobs(
 /// two `d` given. Expected (eigenvalue error ~ h^(2p) for Nedelec elements of
 /// order p with matching geometry; Boffi, Acta Numerica 2010, from memory):
 /// 2 for order 1, 4 for order 2.
-fn convergence_rates(divisions: [f64; 2]) -> Result<Vec<Check>, SolveError> {
+fn convergence_rates(divisions: [f64; 2]) -> Result<Vec<Check>, ValidateError> {
     let fibre = SINGLE_MODE;
     let beta = fibre.beta();
     let exact = exact_modes(&fibre, beta);
@@ -504,7 +505,7 @@ fn all_guided_modes(
     fibre: &FibreSpec,
     knobs: MeshKnobs,
     tolerance: f64,
-) -> Result<Vec<Check>, SolveError> {
+) -> Result<Vec<Check>, ValidateError> {
     let beta = fibre.beta();
     let exact = exact_modes(fibre, beta);
     let expected: Vec<f64> = exact.iter().map(|m| m.k0).collect();
@@ -553,13 +554,13 @@ const BENT_CORE_UM: f64 = 0.5;
 pub fn bent_fibre_errors(
     radii_um: &[f64],
     resolution: f64,
-) -> Result<Vec<(f64, f64, usize, f64)>, SolveError> {
+) -> Result<Vec<(f64, f64, usize, f64)>, ValidateError> {
     let fibre =
-        StepIndexFibre::try_new(BENT_CORE_UM * 1e-6, 2.0, 1.0).map_err(SolveError::Reference)?;
+        StepIndexFibre::try_new(BENT_CORE_UM * 1e-6, 2.0, 1.0).map_err(ValidateError::Reference)?;
     let k0_design = 2.0 * std::f64::consts::PI / 1.55e-6;
     let n_design = fibre
         .n_eff(FibreModeKind::He, 1, 1, k0_design)
-        .map_err(SolveError::Reference)?
+        .map_err(ValidateError::Reference)?
         .expect("HE11 is always guided");
     let mut out = Vec::new();
     for &r_um in radii_um {
@@ -597,11 +598,12 @@ count = 2
         );
         let case = Case::from_toml_str(&text, &[])?;
         let start = Instant::now();
-        let outcome = crate::solve::solve_case(&case, &crate::solve::SolveSettings::default())?;
+        let outcome =
+            twistmode_pipeline::solve_case(&case, &twistmode_pipeline::SolveSettings::default())?;
         let seconds = start.elapsed().as_secs_f64();
         let mut worst: f64 = 0.0;
         if outcome.modes.len() < 2 {
-            return Err(SolveError::Incomplete(format!(
+            return Err(ValidateError::Incomplete(format!(
                 "bent fibre at R = {r_um} um: found {} of its two fundamental modes",
                 outcome.modes.len()
             )));
@@ -611,7 +613,7 @@ count = 2
             let n_ring = m / (r * k0);
             let n_fibre = fibre
                 .n_eff(FibreModeKind::He, 1, 1, k0)
-                .map_err(SolveError::Reference)?
+                .map_err(ValidateError::Reference)?
                 .expect("HE11 is always guided");
             worst = worst.max((n_ring - n_fibre).abs());
         }
@@ -622,7 +624,7 @@ count = 2
 
 /// Checks of the bent fibre: at the largest radius the ring's index is
 /// within `bound` of the fibre's, and the difference falls at every step.
-fn bent_fibre(level: Level) -> Result<Vec<Check>, SolveError> {
+fn bent_fibre(level: Level) -> Result<Vec<Check>, ValidateError> {
     let (radii, resolution): (&[f64], f64) = match level {
         Level::Quick => (&[10.0, 20.0, 40.0], 10.0),
         Level::Full => (&[10.0, 20.0, 40.0, 80.0, 160.0], 16.0),

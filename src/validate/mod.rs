@@ -6,10 +6,44 @@
 //! `validate` command prints them; the tests in `tests/` assert them at the
 //! quick level.
 use serde::Serialize;
+use thiserror::Error;
+use twistmode_pipeline::PipelineError;
 
 pub mod cavity;
 pub mod fibre;
 pub mod sphere;
+
+/// Why a validation run could not produce its checks.
+#[derive(Debug, Error)]
+pub enum ValidateError {
+    /// The solve pipeline failed.
+    #[error(transparent)]
+    Pipeline(#[from] PipelineError),
+    /// An exact reference value could not be computed.
+    #[error("reference: {0}")]
+    Reference(#[from] twistmode_reference::ReferenceError),
+    /// A run could not produce what it compares.
+    #[error("{0}")]
+    Incomplete(String),
+}
+
+/// Errors of the crates below the pipeline reach validation through the pipeline's error.
+macro_rules! through_pipeline {
+    ($($t:ty),*) => {$(
+        impl From<$t> for ValidateError {
+            fn from(e: $t) -> Self {
+                ValidateError::Pipeline(PipelineError::from(e))
+            }
+        }
+    )*};
+}
+through_pipeline!(
+    twistmode_mesh::MeshError,
+    twistmode_fem::FemError,
+    twistmode_eigen::EigenError,
+    twistmode_io::case::CaseError,
+    twistmode_io::output::OutputError
+);
 
 /// How much work a validation run does.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

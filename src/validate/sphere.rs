@@ -34,7 +34,9 @@ use twistmode_io::case::Case;
 use twistmode_reference::{mie_resonance, MieResonance, MieSphere, SpherePolarization};
 
 use super::{Check, Level};
-use crate::solve::{solve_case, SolveError, SolveSettings};
+use twistmode_pipeline::{solve_case, SolveSettings};
+
+use crate::validate::ValidateError;
 
 /// Source named by every check.
 pub const SOURCE: &str = "Mie theory, Bohren & Huffman (1983) ch. 4 eq. 4.53; \
@@ -181,13 +183,13 @@ impl SphereSolve {
 }
 
 /// The exact resonance of a probe.
-pub fn exact_resonance(probe: &SphereProbe) -> Result<MieResonance, SolveError> {
+pub fn exact_resonance(probe: &SphereProbe) -> Result<MieResonance, ValidateError> {
     let sphere = MieSphere::try_new(Complex64::new(probe.index, 0.0), 1.0).map_err(reference)?;
     mie_resonance(&sphere, probe.l, probe.p, probe.polarization).map_err(reference)
 }
 
-fn reference(e: twistmode_reference::ReferenceError) -> SolveError {
-    SolveError::Reference(e)
+fn reference(e: twistmode_reference::ReferenceError) -> ValidateError {
+    ValidateError::Reference(e)
 }
 
 /// The case file text of a probe, targeting the exact `Re k0`.
@@ -260,7 +262,7 @@ midplane = "{midplane}"
 }
 
 /// Solves one probe through the user path and identifies the mode.
-pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, SolveError> {
+pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, ValidateError> {
     let exact = exact_resonance(probe)?;
     let case = Case::from_toml_str(&case_text(probe, &exact), &[])?;
     let start = Instant::now();
@@ -286,7 +288,7 @@ pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, SolveError> {
                 .total_cmp(&(y.1 - exact.k0a).norm())
         })
         .ok_or_else(|| {
-            SolveError::Incomplete(format!("{}: the solve kept no mode", probe.name()))
+            ValidateError::Incomplete(format!("{}: the solve kept no mode", probe.name()))
         })?;
     let mode = &outcome.modes[best];
     let radial_share = radial_share(&outcome.mesh, &outcome.nodal_fields[best], metres);
@@ -310,7 +312,7 @@ pub fn solve_probe(probe: &SphereProbe) -> Result<SphereSolve, SolveError> {
 pub fn nearest_exact(
     probe: &SphereProbe,
     k0a: Complex64,
-) -> Result<((SpherePolarization, u32, u32), f64), SolveError> {
+) -> Result<((SpherePolarization, u32, u32), f64), ValidateError> {
     let sphere = MieSphere::try_new(Complex64::new(probe.index, 0.0), 1.0).map_err(reference)?;
     let low = probe.l.saturating_sub(3).max(probe.m.unsigned_abs()).max(1);
     let mut best = (probe.polarization, probe.l, probe.p);
@@ -413,13 +415,13 @@ fn tolerances(level: Level) -> (f64, f64) {
 }
 
 /// Runs the sphere checks at the given level.
-pub fn run(level: Level) -> Result<Vec<Check>, SolveError> {
+pub fn run(level: Level) -> Result<Vec<Check>, ValidateError> {
     run_probes(probes(level), level)
 }
 
 /// Runs the given probes with the tolerances of `level` (a subset of a
 /// level's probes, e.g. to re-measure some of them).
-pub fn run_probes(probes: Vec<SphereProbe>, level: Level) -> Result<Vec<Check>, SolveError> {
+pub fn run_probes(probes: Vec<SphereProbe>, level: Level) -> Result<Vec<Check>, ValidateError> {
     let (tol_k0, tol_q) = tolerances(level);
     let mut checks = Vec::new();
     let mut done: Vec<(SphereProbe, SphereSolve)> = Vec::new();

@@ -12,10 +12,12 @@ use serde::{Deserialize, Serialize};
 use twistmode_analysis::{families, Family, FamilyMember};
 use twistmode_io::case::Case;
 
-use crate::solve::{reference_radius, solve_case, ModeReport, SolveError, SolveSettings};
+use crate::model::reference_radius;
+use crate::run::solve_case;
+use crate::{ModeReport, PipelineError, SolveSettings};
 
 /// Reads the case with extra `--set` overrides.
-pub type CaseLoader<'a> = dyn Fn(&[(String, String)]) -> Result<Case, SolveError> + 'a;
+pub type CaseLoader<'a> = dyn Fn(&[(String, String)]) -> Result<Case, PipelineError> + 'a;
 
 /// What to vary.
 #[derive(Clone, Debug)]
@@ -94,10 +96,10 @@ pub fn run_sweep(
     settings: &SolveSettings,
     dir: &Path,
     progress: &dyn Fn(usize, usize),
-) -> Result<SweepOutcome, SolveError> {
+) -> Result<SweepOutcome, PipelineError> {
     let points_dir = dir.join("points");
     std::fs::create_dir_all(&points_dir).map_err(|e| {
-        SolveError::Incomplete(format!("cannot create {}: {e}", points_dir.display()))
+        PipelineError::Incomplete(format!("cannot create {}: {e}", points_dir.display()))
     })?;
     let mut print = String::from(case_text);
     for (k, v) in fixed {

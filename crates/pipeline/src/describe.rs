@@ -1,0 +1,181 @@
+//! From eigenpairs to described modes: energy fractions, polarisation class,
+//! field-maximum counts, trust flags; PML and box modes dropped unless asked for.
+use num_complex::Complex64;
+use twistmode_analysis::{
+    classify_polarisation, count_maxima, frequency_hz, k0_from_eigenvalue, quality_factor,
+    trust_flags, Flag, TrustInputs,
+};
+use twistmode_eigen::Spectrum;
+use twistmode_fem::{AssembledSystem, FieldEvaluator, SectionProblem};
+use twistmode_io::case::{Body, Case};
+use twistmode_mesh::{Mesh, PmlGeometry, RegionKind};
+
+use crate::model::{body_box, mode_order, outer_index, pml_start_from_axis, reference_radius};
+use crate::{ModeReport, SolveSettings, SolverFacts};
+
+/// Labels, flags and figures of each eigenpair; drops PML and box modes unless asked.
+#[allow(clippy::too_many_arguments)]
+pub(crate) fn describe_modes(
+    case: &Case,
+    problem: &SectionProblem<'_>,
+    system: &AssembledSystem,
+    spectrum: &Spectrum,
+    settings: &SolveSettings,
+    solver: &mut SolverFacts,
+) -> (Vec<ModeReport>, Vec<Vec<[Complex64; 3]>>) {
+    let mesh = problem.mesh();
+    let bbox = body_box(mesh);
+    let (extent_u, extent_v) = (bbox[1] - bbox[0], bbox[3] - bbox[2]);
+    let aspect = extent_u.max(extent_v) / extent_u.min(extent_v);
+    let pml_start = pml_start_from_axis(case, mesh);
+    let mut out: Vec<(ModeReport, Vec<[Complex64; 3]>)> = Vec::new();
+    // Pairs come nearest the shift first; keep the `count` nearest physical ones.
+    for pair in &spectrum.pairs {
+        if out.len() == case.search.count {
+            break;
+        }
+        let k0 = k0_from_eigenvalue(pair.lambda);
+        let field = FieldEvaluator::new(problem, system, &pair.vector);
+        let energy = field.energy();
+        // With a complex target (search.near_q) very leaky resonances are sought,
+        // whose fields reach far into the air and PML: flag instead of dropping.
+        let pml_heavy = energy.pml_fraction > settings.max_pml_fraction;
+        if !settings.keep_all && case.search.near_q.is_none() {
+            if pml_heavy {
+                solver.pml_dropped += 1;
+                continue;
+            }
+            if energy.body_fraction < settings.min_confinement {
+                solver.box_dropped += 1;
+                continue;
+            }
+        }
+        let [fu, fv] = energy.body_uv_fraction;
+        let (wide, narrow) = if extent_u >= extent_v {
+            (fu, fv)
+        } else {
+            (fv, fu)
+        };
+        let polarisation = classify_polarisation(wide, narrow, aspect, 0.7);
+        let (maxima_u, maxima_v) = count_section_maxima(&field, mesh, bbox);
+        let order = mode_order(case);
+        let (m, beta, effective_index) = match case.body {
+            Body::Straight { .. } => (None, Some(order), Some(order / k0.re)),
+            _ => (
+                Some(order),
+                None,
+                reference_radius(case).map(|r| order / (k0.re * r)),
+            ),
+        };
+        let mut flags = trust_flags(&TrustInputs {
+            k0_re: k0.re,
+            k0_im: k0.im,
+            residual: pair.residual,
+            tolerance: settings.tolerance,
+            azimuthal_order: m,
+            outer_index: outer_index(case),
+            pml_start_from_axis: pml_start,
+            confinement: energy.body_fraction,
+            q_limit: settings.q_limit,
+            has_pml: !matches!(mesh.domain().map(|d| d.pml), None | Some(PmlGeometry::None)),
+        });
+        if pml_heavy {
+            flags.push(Flag::PmlDominated {
+                pml_fraction: energy.pml_fraction,
+                k0_change_with_pml: None,
+            });
+        }
+        let f = frequency_hz(k0);
+        // |Im k0| at round-off level (Q > 5e11): a lossless mode, Q infinite.
+        let q = if k0.im.abs() <= 1e-12 * k0.re.abs() {
+            f64::INFINITY
+        } else {
+            quality_factor(k0)
+        };
+        let label = format!("{} u{} v{}", polarisation.short(), maxima_u, maxima_v);
+        out.push((
+            ModeReport {
+                index: 0,
+                m,
+                beta,
+                frequency_hz: [f.re, f.im],
+                k0: [k0.re, k0.im],
+                q: q.is_finite().then_some(q),
+                wavelength_m: 2.0 * std::f64::consts::PI / k0.re,
+                effective_index,
+                confinement: energy.body_fraction,
+                pml_fraction: energy.pml_fraction,
+                polarisation,
+                maxima_u,
+                maxima_v,
+                residual: pair.residual,
+                flags,
+                label,
+            },
+            field.nodal_values(),
+        ));
+    }
+    out.sort_by(|a, b| a.0.frequency_hz[0].total_cmp(&b.0.frequency_hz[0]));
+    let mut modes = Vec::with_capacity(out.len());
+    let mut fields = Vec::with_capacity(out.len());
+    for (i, (mut m, f)) in out.into_iter().enumerate() {
+        m.index = i;
+        modes.push(m);
+        fields.push(f);
+    }
+    (modes, fields)
+}
+
+/// Counts |E|^2 maxima along u through the body's centre line, then along v
+/// through the u position of the strongest sample.
+fn count_section_maxima(
+    field: &FieldEvaluator<'_, '_>,
+    mesh: &Mesh,
+    bbox: [f64; 4],
+) -> (usize, usize) {
+    const SAMPLES: usize = 121;
+    let sample = |p: [f64; 2]| -> f64 {
+        locate(mesh, p)
+            .and_then(|(t, xi, eta)| field.physical(t, xi, eta))
+            .map(|f| f.norm_sq)
+            .unwrap_or(0.0)
+    };
+    let inset = |a: f64, b: f64, i: usize| a + (b - a) * (i as f64 + 0.5) / SAMPLES as f64;
+    let v_mid = 0.5 * (bbox[2] + bbox[3]);
+    let along_u: Vec<f64> = (0..SAMPLES)
+        .map(|i| sample([inset(bbox[0], bbox[1], i), v_mid]))
+        .collect();
+    let best = along_u
+        .iter()
+        .enumerate()
+        .max_by(|a, b| a.1.total_cmp(b.1))
+        .map(|(i, _)| i)
+        .unwrap_or(SAMPLES / 2);
+    let u_best = inset(bbox[0], bbox[1], best);
+    let along_v: Vec<f64> = (0..SAMPLES)
+        .map(|i| sample([u_best, inset(bbox[2], bbox[3], i)]))
+        .collect();
+    (count_maxima(&along_u, 0.1), count_maxima(&along_v, 0.1))
+}
+
+/// Finds the body triangle containing `p` (straight-sided approximation) and
+/// the reference coordinates of `p` in it.
+fn locate(mesh: &Mesh, p: [f64; 2]) -> Option<(usize, f64, f64)> {
+    for (t, tri) in mesh.triangles().iter().enumerate() {
+        if !matches!(
+            mesh.regions()[tri.region.idx()].kind,
+            RegionKind::Body { .. }
+        ) {
+            continue;
+        }
+        let [a, b, c] = tri.vertices().map(|n| mesh.points()[n.idx()]);
+        let det = (b[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (b[1] - a[1]);
+        let xi = ((p[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (p[1] - a[1])) / det;
+        let eta = ((b[0] - a[0]) * (p[1] - a[1]) - (p[0] - a[0]) * (b[1] - a[1])) / det;
+        let tol = -1e-12;
+        if xi >= tol && eta >= tol && xi + eta <= 1.0 - tol {
+            return Some((t, xi.max(0.0), eta.max(0.0)));
+        }
+    }
+    None
+}
