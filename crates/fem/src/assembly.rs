@@ -1,4 +1,5 @@
-//! Element matrices (curl-curl and vector mass) and parallel global assembly.
+//! Element matrices (curl-curl and vector mass) and parallel global assembly of a
+//! section problem for one azimuthal order.
 //!
 //! Fields `E = (e_u, e_v, e_w)(u, v) exp(i m w)`; trial curl
 //! `(d_v e_w - i m e_v, i m e_u - d_u e_w, d_u e_v - d_v e_u)`; test functions
@@ -10,29 +11,24 @@
 //! ```
 //!
 //! and the pencil `K x = k0^2 M x` (lengths in metres, so `k0^2` in m^-2).
-//! The test and trial orders are separate arguments of [`element_matrices`] and
-//! the medium comes through [`CoefficientField`], so harmonic blocks of a
-//! Fourier-Galerkin (twisted ring) system — test order `m + l tau`, trial order
-//! `m + k tau`, coefficient harmonic `l - k` — reuse the same integrator.
-use faer::sparse::{Pair, SparseColMat, SymbolicSparseColMat};
+//! Assembly goes through the order-independent parts of [`crate::kernel`]:
+//! [`SectionProblem::assemble_parts`] integrates `S00, S01, S10, S11, M` once, and
+//! [`OrderParts::system`] forms `K(m) = S00 + m (S01 - S10) - m^2 S11` for any order
+//! without integrating again (an m-sweep assembles once).
+use faer::sparse::SparseColMat;
 use num_complex::Complex64 as c64;
-use rayon::prelude::*;
 use twistmode_mesh::{boundary_names, Mesh, RegionKind};
 
 use crate::coordinates::{CoordinateMap, EquivalentMedium, Placement, PmlStretch};
 use crate::dofs::{ConstraintSummary, DofMap, Wall};
-use crate::element::{lagrange_reference, nedelec_reference, Order};
+use crate::element::Order;
 use crate::error::FemError;
 use crate::geometry::ElementGeometry;
+use crate::harmonics::PointMedium;
+use crate::kernel::{element_parts, part};
 use crate::media::{Material, MaterialTable};
 use crate::quadrature::TriangleRule;
-use crate::tensor::apply3;
-
-/// Largest number of local functions (order 2: 8 transverse + 6 Lagrange).
-pub const MAX_LOCAL: usize = 14;
-
-/// Entries of one triangle: reduced (row, column) pairs, K values, M values.
-type TriangleEntries = (Vec<Pair<usize, usize>>, Vec<c64>, Vec<c64>);
+use crate::scatter::{AssembledParts, BlockPattern, ReducedPattern, Reduction};
 
 /// The coefficients of the forms as a function of position in the section.
 pub trait CoefficientField: Sync {
@@ -73,14 +69,8 @@ pub struct ElementMatrices {
     pub mass: Vec<c64>,
 }
 
-/// Values (3 components) and curls of every local function at one quadrature point.
-struct PointBasis {
-    value: [[c64; 3]; MAX_LOCAL],
-    curl_trial: [[c64; 3]; MAX_LOCAL],
-    curl_test: [[c64; 3]; MAX_LOCAL],
-}
-
-/// Element matrices of one triangle, by quadrature. `medium(u, v)` gives the
+/// Element matrices of one triangle for test order `m_test` and trial order `m_trial`,
+/// by quadrature (the parts of [`element_parts`] combined). `medium(u, v)` gives the
 /// coefficients at a physical point (`None`: singular, reported as the point).
 pub fn element_matrices(
     geometry: &ElementGeometry,
@@ -90,57 +80,13 @@ pub fn element_matrices(
     m_trial: f64,
     medium: impl Fn(f64, f64) -> Option<EquivalentMedium>,
 ) -> Result<ElementMatrices, [f64; 2]> {
-    let nt = order.transverse_per_triangle();
-    let n = nt + order.scalar_per_triangle();
-    let mut stiffness = vec![c64::new(0.0, 0.0); n * n];
-    let mut mass = vec![c64::new(0.0, 0.0); n * n];
-    let zero = c64::new(0.0, 0.0);
-    let i = c64::new(0.0, 1.0);
-    let mut ned_values = [[0.0; 2]; 8];
-    let mut ned_curls = [0.0; 8];
-    let mut lag_values = [0.0; 6];
-    let mut lag_grads = [[0.0; 2]; 6];
-    let mut basis = PointBasis {
-        value: [[zero; 3]; MAX_LOCAL],
-        curl_trial: [[zero; 3]; MAX_LOCAL],
-        curl_test: [[zero; 3]; MAX_LOCAL],
-    };
-    for (point, weight) in rule.points.iter().zip(&rule.weights) {
-        let mapped = geometry.map(point[0], point[1]);
-        let coefficients = medium(mapped.x[0], mapped.x[1]).ok_or(mapped.x)?;
-        let dx = weight * mapped.det;
-        nedelec_reference(order, point[0], point[1], &mut ned_values, &mut ned_curls);
-        lagrange_reference(order, point[0], point[1], &mut lag_values, &mut lag_grads);
-        for k in 0..nt {
-            let a = mapped.covariant(ned_values[k]);
-            let c = c64::new(ned_curls[k] / mapped.det, 0.0);
-            basis.value[k] = [c64::new(a[0], 0.0), c64::new(a[1], 0.0), zero];
-            basis.curl_trial[k] = [-i * m_trial * a[1], i * m_trial * a[0], c];
-            basis.curl_test[k] = [i * m_test * a[1], -i * m_test * a[0], c];
-        }
-        for k in 0..order.scalar_per_triangle() {
-            let g = mapped.covariant(lag_grads[k]);
-            basis.value[nt + k] = [zero, zero, c64::new(lag_values[k], 0.0)];
-            let curl = [c64::new(g[1], 0.0), c64::new(-g[0], 0.0), zero];
-            basis.curl_trial[nt + k] = curl;
-            basis.curl_test[nt + k] = curl;
-        }
-        for col in 0..n {
-            let nu_curl = apply3(&coefficients.nu_hat, &basis.curl_trial[col]);
-            let eps_val = apply3(&coefficients.eps_hat, &basis.value[col]);
-            for row in 0..n {
-                let (ct, vt) = (&basis.curl_test[row], &basis.value[row]);
-                stiffness[row * n + col] +=
-                    (ct[0] * nu_curl[0] + ct[1] * nu_curl[1] + ct[2] * nu_curl[2]) * dx;
-                mass[row * n + col] +=
-                    (vt[0] * eps_val[0] + vt[1] * eps_val[1] + vt[2] * eps_val[2]) * dx;
-            }
-        }
-    }
+    let parts = element_parts(geometry, order, rule, &[0], |u, v| {
+        medium(u, v).map(PointMedium::invariant)
+    })?;
     Ok(ElementMatrices {
-        len: n,
-        stiffness,
-        mass,
+        len: parts.len,
+        stiffness: parts.stiffness(0, m_test, m_trial),
+        mass: parts.parts[0][part::MASS].clone(),
     })
 }
 
@@ -227,11 +173,6 @@ impl AssembledSystem {
 impl<'m> SectionProblem<'m> {
     /// Checks the setup against the mesh (materials, boundary names, twist).
     pub fn try_new(mesh: &'m Mesh, setup: SectionSetup) -> Result<SectionProblem<'m>, FemError> {
-        if let Placement::Ring { half_turns, .. } = setup.placement {
-            if half_turns != 0.0 {
-                return Err(FemError::TwistedRingNeedsHarmonics { half_turns });
-            }
-        }
         for (name, _) in &setup.walls {
             if mesh.boundary_tag(name).is_none() {
                 return Err(FemError::UnknownBoundary { name: name.clone() });
@@ -275,6 +216,10 @@ impl<'m> SectionProblem<'m> {
     pub fn medium(&self) -> &SectionMedium {
         &self.medium
     }
+    /// The quadrature rule.
+    pub fn rule(&self) -> &TriangleRule {
+        &self.rule
+    }
     /// Replaces the quadrature rule (exact for total degree `degree`).
     pub fn set_quadrature_degree(&mut self, degree: usize) {
         self.rule = TriangleRule::collapsed_gauss(degree);
@@ -299,63 +244,65 @@ impl<'m> SectionProblem<'m> {
         )
     }
 
+    /// The order-independent parts `S00, S01, S10, S11, M` on the full DOF numbering,
+    /// element integrals in parallel.
+    /// Refused for twisted rings, whose medium depends on `w` (see
+    /// [`crate::twisted::TwistedRing`]).
+    pub fn assemble_parts(&self) -> Result<OrderParts, FemError> {
+        if let Placement::Ring { half_turns, .. } = self.setup.placement {
+            if half_turns != 0.0 {
+                return Err(FemError::TwistedRingNeedsHarmonics { half_turns });
+            }
+        }
+        let numbering = self.dofs(0.0)?;
+        let pattern = BlockPattern::new(self.mesh, &numbering)?;
+        let medium = |t: usize, u: f64, v: f64| self.medium.at(t, u, v).map(PointMedium::invariant);
+        let parts = AssembledParts::assemble(
+            self.mesh,
+            &pattern,
+            self.setup.order,
+            &self.rule,
+            &[0],
+            &medium,
+        )?;
+        Ok(OrderParts { pattern, parts })
+    }
+
     /// Assembles `K` and `M` for azimuthal order (or propagation constant) `m`,
     /// element matrices in parallel, constrained DOFs eliminated.
     pub fn assemble(&self, m: f64) -> Result<AssembledSystem, FemError> {
-        let dofs = self.dofs(m)?;
-        let order = self.setup.order;
-        let per_triangle: Vec<TriangleEntries> = (0..self.mesh.triangles().len())
-            .into_par_iter()
-            .map(|t| {
-                let geometry = ElementGeometry::of_triangle(self.mesh, t);
-                let local = element_matrices(&geometry, order, &self.rule, m, m, |u, v| {
-                    self.medium.at(t, u, v)
-                })
-                .map_err(|p| FemError::SingularMap {
-                    triangle: t,
-                    u: p[0],
-                    v: p[1],
-                })?;
-                let ld = dofs.triangle_dofs(self.mesh, t);
-                let mut pairs = Vec::with_capacity(ld.len * ld.len);
-                let mut k = Vec::with_capacity(ld.len * ld.len);
-                let mut mm = Vec::with_capacity(ld.len * ld.len);
-                for row in 0..ld.len {
-                    let Some(r) = dofs.reduced_index(ld.index[row]) else {
-                        continue;
-                    };
-                    for col in 0..ld.len {
-                        let Some(c) = dofs.reduced_index(ld.index[col]) else {
-                            continue;
-                        };
-                        let s = ld.sign[row] * ld.sign[col];
-                        pairs.push(Pair { row: r, col: c });
-                        k.push(local.stiffness[row * ld.len + col] * s);
-                        mm.push(local.mass[row * ld.len + col] * s);
-                    }
-                }
-                Ok((pairs, k, mm))
-            })
-            .collect::<Result<_, FemError>>()?;
-        let total: usize = per_triangle.iter().map(|p| p.0.len()).sum();
-        let mut pairs = Vec::with_capacity(total);
-        let mut kv = Vec::with_capacity(total);
-        let mut mv = Vec::with_capacity(total);
-        for (p, k, mm) in per_triangle {
-            pairs.extend(p);
-            kv.extend(k);
-            mv.extend(mm);
-        }
-        let n = dofs.reduced_len();
-        let (symbolic, argsort) = SymbolicSparseColMat::try_new_from_indices(n, n, &pairs)
-            .map_err(|e| FemError::Sparse(format!("{e:?}")))?;
-        let stiffness = SparseColMat::new_from_argsort(symbolic.clone(), &argsort, &kv)
-            .map_err(|e| FemError::Sparse(format!("{e:?}")))?;
-        let mass = SparseColMat::new_from_argsort(symbolic, &argsort, &mv)
-            .map_err(|e| FemError::Sparse(format!("{e:?}")))?;
+        self.assemble_parts()?.system(self, m)
+    }
+}
+
+/// The order-independent parts of a section problem, assembled once; [`OrderParts::system`]
+/// forms the pencil of any order from them.
+#[derive(Clone, Debug)]
+pub struct OrderParts {
+    pattern: BlockPattern,
+    parts: AssembledParts,
+}
+
+impl OrderParts {
+    /// The pattern of the full DOF numbering.
+    pub fn pattern(&self) -> &BlockPattern {
+        &self.pattern
+    }
+
+    /// The pencil of order `m`: `K = S00 + m (S01 - S10) - m^2 S11`, `M`, reduced to the
+    /// DOFs left free by the walls and the axis conditions of `problem` at that order.
+    pub fn system(
+        &self,
+        problem: &SectionProblem<'_>,
+        m: f64,
+    ) -> Result<AssembledSystem, FemError> {
+        let dofs = problem.dofs(m)?;
+        let reduction = Reduction::of_constraints(&dofs);
+        let reduced = ReducedPattern::new(&self.pattern, &reduction, &reduction);
+        let (k, mass) = reduced.gather_block(&self.parts, 0, m, m);
         Ok(AssembledSystem {
-            stiffness,
-            mass,
+            stiffness: reduced.matrix(k),
+            mass: reduced.matrix(mass),
             dofs,
             m,
         })

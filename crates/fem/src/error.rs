@@ -42,6 +42,18 @@ pub enum FemError {
         /// Half turns per round trip.
         half_turns: f64,
     },
+    /// The mesh or the DOFs lack the pi-rotation symmetry a sector basis needs.
+    #[error("the section mesh is not symmetric under rotation by pi: {reason}")]
+    NotPiSymmetric {
+        /// What failed.
+        reason: String,
+    },
+    /// The case is outside what the twisted-ring system supports.
+    #[error("twisted ring: {reason}")]
+    TwistedRing {
+        /// What is not supported, and why.
+        reason: String,
+    },
     /// The sparse matrix could not be built.
     #[error("sparse matrix construction failed: {0}")]
     Sparse(String),

@@ -31,13 +31,18 @@ pub mod element;
 mod error;
 pub mod field;
 pub mod geometry;
+pub mod harmonics;
+pub mod kernel;
 pub mod media;
 pub mod quadrature;
+pub mod scatter;
+pub mod symmetry;
 pub mod tensor;
+pub mod twisted;
 
 pub use assembly::{
-    element_matrices, AssembledSystem, CoefficientField, ElementMatrices, SectionMedium,
-    SectionProblem, SectionSetup,
+    element_matrices, AssembledSystem, CoefficientField, ElementMatrices, OrderParts,
+    SectionMedium, SectionProblem, SectionSetup,
 };
 pub use coordinates::{CoordinateMap, EquivalentMedium, Placement, PmlProfile, PmlStretch};
 pub use dofs::{ConstraintSummary, DofMap, LocalDofs, Wall};
@@ -46,6 +51,8 @@ pub use error::FemError;
 pub use field::{EnergySummary, FieldEvaluator, PhysicalField, RegionEnergy};
 pub use media::{Material, MaterialTable};
 pub use quadrature::TriangleRule;
+pub use symmetry::PiRotation;
+pub use twisted::{BlockSystem, Couplings, HarmonicBlock, HarmonicWindow, TwistedRing};
 
 /// Complex scalar used throughout (same type as `faer::c64`).
 pub use num_complex::Complex64 as c64;
