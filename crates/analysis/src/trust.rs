@@ -32,6 +32,14 @@ pub enum Flag {
         /// Fraction of the electric energy inside the body.
         confinement: f64,
     },
+    /// A twisted-ring mode whose `k0` changed by more than the tolerance when the
+    /// harmonic window was narrowed by one on each side (or had no partner there).
+    HarmonicsUnconverged {
+        /// `|k0_K - k0_(K-1)| / |k0_K|`, if a partner was found.
+        change: Option<f64>,
+        /// The tolerance it was held to.
+        tolerance: f64,
+    },
     /// More of the electric energy lies in the PML than a resonance normally has:
     /// either a very leaky resonance (kept because a complex target was given) or a
     /// mode of the PML itself. A resonance keeps its `k0` when the PML changes; a
@@ -55,6 +63,13 @@ impl Flag {
             Flag::PmlInsideCaustic { .. } => "PML inside caustic: Q unreliable".into(),
             Flag::LowConfinement { confinement } => {
                 format!("confinement {:.0}%", 100.0 * confinement)
+            }
+            Flag::HarmonicsUnconverged {
+                change: Some(change),
+                ..
+            } => format!("harmonics: changed {change:.0e} from K-1"),
+            Flag::HarmonicsUnconverged { change: None, .. } => {
+                "harmonics: no partner at K-1".into()
             }
             Flag::PmlDominated {
                 pml_fraction,

@@ -11,6 +11,7 @@ use num_complex::Complex64 as c64;
 use twistmode_mesh::RegionKind;
 
 use crate::assembly::{AssembledSystem, SectionProblem};
+use crate::dofs::DofMap;
 use crate::element::{lagrange_reference, nedelec_reference};
 use crate::geometry::ElementGeometry;
 use crate::quadrature::TriangleRule;
@@ -53,13 +54,46 @@ pub struct EnergySummary {
     pub body_uv_fraction: [f64; 2],
 }
 
+impl EnergySummary {
+    /// The fractions of a set of region energies (indexed by region id of `mesh`).
+    pub fn from_regions(mesh: &twistmode_mesh::Mesh, regions: Vec<RegionEnergy>) -> EnergySummary {
+        let total: f64 = regions.iter().map(|r| r.electric.norm()).sum();
+        let (mut body, mut pml, mut uv) = (0.0, 0.0, [0.0; 2]);
+        for (r, e) in mesh.regions().iter().zip(&regions) {
+            match r.kind {
+                RegionKind::Body { .. } => {
+                    body += e.electric.norm();
+                    uv[0] += e.components[0];
+                    uv[1] += e.components[1];
+                }
+                RegionKind::Pml => pml += e.electric.norm(),
+                RegionKind::Surroundings => {}
+            }
+        }
+        let body_sum: f64 = regions
+            .iter()
+            .zip(mesh.regions())
+            .filter(|(_, r)| matches!(r.kind, RegionKind::Body { .. }))
+            .map(|(e, _)| e.components.iter().sum::<f64>())
+            .sum();
+        let safe = |a: f64, b: f64| if b > 0.0 { a / b } else { 0.0 };
+        EnergySummary {
+            regions,
+            total,
+            body_fraction: safe(body, total),
+            pml_fraction: safe(pml, total),
+            body_uv_fraction: [safe(uv[0], body_sum), safe(uv[1], body_sum)],
+        }
+    }
+}
+
 /// Point, orthonormal frame (rows), Cartesian field and volume factor `|det J|`.
 type CartesianSample = ([f64; 2], [[f64; 3]; 3], [c64; 3], f64);
 
 /// Reads fields back from a solution vector of an assembled system.
 pub struct FieldEvaluator<'a, 'm> {
     problem: &'a SectionProblem<'m>,
-    system: &'a AssembledSystem,
+    dofs: &'a DofMap,
     full: Vec<c64>,
 }
 
@@ -72,8 +106,22 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
     ) -> FieldEvaluator<'a, 'm> {
         FieldEvaluator {
             problem,
-            system,
+            dofs: &system.dofs,
             full: system.dofs.expand(reduced),
+        }
+    }
+
+    /// Binds a full coefficient vector (every DOF of `dofs`, constrained ones zero) to
+    /// its problem: for instance one harmonic of a twisted-ring solution, or their sum.
+    pub fn from_full(
+        problem: &'a SectionProblem<'m>,
+        dofs: &'a DofMap,
+        full: Vec<c64>,
+    ) -> FieldEvaluator<'a, 'm> {
+        FieldEvaluator {
+            problem,
+            dofs,
+            full,
         }
     }
 
@@ -81,9 +129,9 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
     /// reference point `(xi, eta)` of triangle `t`.
     pub fn covariant(&self, t: usize, xi: f64, eta: f64) -> ([f64; 2], [c64; 3]) {
         let mesh = self.problem.mesh();
-        let order = self.system.dofs.order();
+        let order = self.dofs.order();
         let mapped = ElementGeometry::of_triangle(mesh, t).map(xi, eta);
-        let ld = self.system.dofs.triangle_dofs(mesh, t);
+        let ld = self.dofs.triangle_dofs(mesh, t);
         let mut nv = [[0.0; 2]; 8];
         let mut nc = [0.0; 8];
         let mut lv = [0.0; 6];
@@ -148,7 +196,7 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
     pub fn energy(&self) -> EnergySummary {
         let mesh = self.problem.mesh();
         let medium = self.problem.medium();
-        let rule = TriangleRule::collapsed_gauss(2 * self.system.dofs.order().degree() + 4);
+        let rule = TriangleRule::collapsed_gauss(2 * self.dofs.order().degree() + 4);
         let zero = RegionEnergy {
             electric: c64::new(0.0, 0.0),
             components: [0.0; 3],
@@ -174,33 +222,7 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
                     (field[0].conj() * d[0] + field[1].conj() * d[1] + field[2].conj() * d[2]) * dv;
             }
         }
-        let total: f64 = regions.iter().map(|r| r.electric.norm()).sum();
-        let (mut body, mut pml, mut uv) = (0.0, 0.0, [0.0; 2]);
-        for (r, e) in mesh.regions().iter().zip(&regions) {
-            match r.kind {
-                RegionKind::Body { .. } => {
-                    body += e.electric.norm();
-                    uv[0] += e.components[0];
-                    uv[1] += e.components[1];
-                }
-                RegionKind::Pml => pml += e.electric.norm(),
-                RegionKind::Surroundings => {}
-            }
-        }
-        let body_sum: f64 = regions
-            .iter()
-            .zip(mesh.regions())
-            .filter(|(_, r)| matches!(r.kind, RegionKind::Body { .. }))
-            .map(|(e, _)| e.components.iter().sum::<f64>())
-            .sum();
-        let safe = |a: f64, b: f64| if b > 0.0 { a / b } else { 0.0 };
-        EnergySummary {
-            regions,
-            total,
-            body_fraction: safe(body, total),
-            pml_fraction: safe(pml, total),
-            body_uv_fraction: [safe(uv[0], body_sum), safe(uv[1], body_sum)],
-        }
+        EnergySummary::from_regions(mesh, regions)
     }
 
     /// Physical field components at every mesh node (vertices and mid-side

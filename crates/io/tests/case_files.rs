@@ -539,6 +539,26 @@ fn twist_and_order_rules() {
         "even body.half_turns",
     );
     assert!(poly("body.half_turns=2").is_ok());
+    // Either handedness: a negative count is the mirror image.
+    assert!(poly("body.half_turns=-2").is_ok());
+    assert_refused(
+        poly("body.half_turns=-1"),
+        "body.half_turns",
+        "symmetric under rotation by pi",
+        "even body.half_turns",
+    );
+    assert_refused(
+        ring_with(&["search.tolerance=1e-6"]),
+        "search.tolerance",
+        "twisted rings",
+        "remove it",
+    );
+    assert_refused(
+        ring_with(&["body.half_turns=1", "search.m=2.5", "search.tolerance=0.5"]),
+        "search.tolerance",
+        "outside (0, 0.1]",
+        "1e-6",
+    );
     assert_refused(
         poly("mesh.pi_symmetric=true"),
         "mesh.pi_symmetric",
@@ -549,7 +569,7 @@ fn twist_and_order_rules() {
         ring_with(&["search.harmonics=3"]),
         "search.harmonics",
         "untwisted ring",
-        "body.half_turns > 0",
+        "nonzero body.half_turns",
     );
     assert_refused(
         ring_with(&["body.half_turns=1", "search.harmonics=0"]),

@@ -87,6 +87,30 @@ pub struct SolverFacts {
     pub iteration_seconds: f64,
     /// Why fewer modes than asked for were reported, when that happens.
     pub shortfall: Option<String>,
+    /// Twisted rings: the harmonic window, sectors and coupling blocks.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub twist: Option<TwistSolverFacts>,
+}
+
+/// What a twisted-ring solve adds to the solver facts.
+#[derive(Clone, Debug, Serialize)]
+pub struct TwistSolverFacts {
+    /// Half turns of the band.
+    pub half_turns: i32,
+    /// Half-width `K` of the harmonic window (`2 K + 1` harmonics).
+    pub harmonics: u32,
+    /// Window centre `m`.
+    pub window_centre: f64,
+    /// Sectors solved (`+1`, `-1`, or null for a section solved whole).
+    pub sectors: Vec<Option<i8>>,
+    /// Unknowns of each sector's system.
+    pub sector_unknowns: Vec<usize>,
+    /// Coupling blocks `(l, k)` kept, diagonal ones included.
+    pub couplings_kept: usize,
+    /// Coupling blocks dropped as negligible.
+    pub couplings_dropped: usize,
+    /// Largest relative size of a dropped coupling harmonic.
+    pub largest_dropped: f64,
 }
 
 /// One reported mode.
@@ -127,6 +151,32 @@ pub struct ModeReport {
     pub flags: Vec<Flag>,
     /// The family label: polarisation and maxima counts.
     pub label: String,
+    /// Twisted rings: the harmonic content and convergence of the mode.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub twist: Option<TwistFacts>,
+}
+
+/// What a twisted-ring mode adds to its report.
+#[derive(Clone, Debug, Serialize)]
+pub struct TwistFacts {
+    /// Half turns of the band.
+    pub half_turns: i32,
+    /// Dominant harmonic `n = m + k tau` (the block holding most electric energy);
+    /// also the report's `m`.
+    pub dominant_order: f64,
+    /// Sector `s` of the rotation by pi (`P e_k = s (-1)^k e_k`), when the section has it.
+    pub sector: Option<i8>,
+    /// Electric energy share of each harmonic, `(order, share)`, orders increasing.
+    pub energy_per_harmonic: Vec<(f64, f64)>,
+    /// Half-width `K` of the harmonic window solved.
+    pub harmonics: u32,
+    /// `|k0_K - k0_(K-1)| / |k0_K|`: the change when the window is narrowed by one
+    /// harmonic on each side (None when `K = 1` and no narrower window is meaningful,
+    /// or no partner was found).
+    pub convergence: Option<f64>,
+    /// Quality factor from material loss alone (`1/Q = sum tan(delta) x electric
+    /// energy share`), reported beside `q` for when radiation Q is not determined here.
+    pub q_material: Option<f64>,
 }
 
 /// Everything a solve produced.

@@ -26,10 +26,13 @@ pub mod model;
 pub mod run;
 pub mod search;
 pub mod sweep;
+pub mod twisted;
 
 pub use checks::PML_MODE_CHANGE;
 pub use error::PipelineError;
-pub use facts::{MeshFacts, ModeReport, SolveOutcome, SolveSettings, SolverFacts};
+pub use facts::{
+    MeshFacts, ModeReport, SolveOutcome, SolveSettings, SolverFacts, TwistFacts, TwistSolverFacts,
+};
 pub use model::{body_box, build_mesh, reference_radius, set_up};
 pub use run::{solve_case, solve_case_reporting};
 pub use search::find_eigenpairs;

@@ -79,18 +79,10 @@ fn imported_pml(case: &Case, mesh: &Mesh) -> Option<PmlGeometry> {
 pub fn set_up(case: &Case, mesh: &Mesh) -> Result<SectionSetup, PipelineError> {
     let placement = match case.body {
         Body::Revolution => Placement::Revolution,
-        Body::Ring { radius, half_turns } => {
-            if half_turns != 0 {
-                return Err(PipelineError::Unsupported(format!(
-                    "body.half_turns = {half_turns}: twisted rings need the coupled-harmonic \
-                     solver, which this version does not have yet; set body.half_turns = 0"
-                )));
-            }
-            Placement::Ring {
-                radius,
-                half_turns: 0.0,
-            }
-        }
+        Body::Ring { radius, half_turns } => Placement::Ring {
+            radius,
+            half_turns: f64::from(half_turns),
+        },
         Body::Straight { twist_rate } => Placement::Straight { twist_rate },
     };
     let order = match case.mesh.order {

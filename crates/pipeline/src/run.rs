@@ -23,6 +23,9 @@ pub fn solve_case_reporting(
     settings: &SolveSettings,
     mut stage: impl FnMut(&str),
 ) -> Result<SolveOutcome, PipelineError> {
+    if case.body.is_twisted_ring() {
+        return crate::twisted::solve_twisted(case, settings, &mut stage);
+    }
     let mut outcome = solve_once(case, settings, &mut stage)?;
     check_pml_heavy_modes(case, settings, &mut outcome, &mut stage)?;
     Ok(outcome)
@@ -83,6 +86,7 @@ pub(crate) fn solve_once(
             factor_seconds: spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
             iteration_seconds,
             shortfall: None,
+            twist: None,
         };
         let (modes, nodal_fields) =
             describe_modes(case, &problem, &system, spectrum, settings, &mut solver);
@@ -121,7 +125,7 @@ pub(crate) fn solve_once(
     })
 }
 
-fn status_text(status: &Status) -> String {
+pub(crate) fn status_text(status: &Status) -> String {
     match status {
         Status::Converged => "converged".into(),
         Status::MaxRestarts {

@@ -47,7 +47,7 @@ pub(crate) const KEY_HELP: &[(&str, &str)] = &[
         "a string: \"revolution\", \"ring\" or \"straight\"",
     ),
     ("body.radius", "a positive number, in units.length"),
-    ("body.half_turns", "a whole number >= 0"),
+    ("body.half_turns", "a whole number (negative for the opposite handedness)"),
     ("body.twist_rate", "a number, radians per units.length"),
     (
         "section.shape",
@@ -104,6 +104,10 @@ pub(crate) const KEY_HELP: &[(&str, &str)] = &[
     ),
     ("search.count", "a whole number >= 1"),
     ("search.harmonics", "a whole number >= 0"),
+    (
+        "search.tolerance",
+        "a number between 0 and 0.1: the relative change of k0 allowed when the harmonic window narrows",
+    ),
     (
         "search.near_q",
         "a number > 0: the expected quality factor of the resonances",

@@ -36,6 +36,8 @@ pub const DEFAULT_RESOLUTION: f64 = 10.0;
 pub const DEFAULT_LAYER_WAVELENGTHS: f64 = 0.5;
 /// Default `search.count`.
 pub const DEFAULT_COUNT: usize = 6;
+/// Default `search.tolerance`: relative change of `k0` between harmonic windows.
+pub const DEFAULT_HARMONIC_TOLERANCE: f64 = 1e-6;
 /// Default `search.harmonics` for twisted rings.
 pub const DEFAULT_TWISTED_HARMONICS: u32 = 4;
 
@@ -66,12 +68,12 @@ pub enum Body {
     /// Rotation of the section about the z axis; the section lives in the (r, z) half plane.
     Revolution,
     /// A ring: the section sits at distance `radius` (metres) from the axis and
-    /// turns by `half_turns * pi` in one round trip.
+    /// turns by `half_turns * pi` in one round trip (negative: the opposite handedness).
     Ring {
         /// Distance from the ring axis to the section centre, metres.
         radius: f64,
         /// Number of half turns of the section per round trip.
-        half_turns: u32,
+        half_turns: i32,
     },
     /// A straight guide along z whose section turns at `twist_rate` rad/m.
     Straight {
@@ -88,9 +90,9 @@ impl Body {
             _ => 0.0,
         }
     }
-    /// True for rings with a nonzero number of half turns.
+    /// True for rings with a nonzero number of half turns (either handedness).
     pub fn is_twisted_ring(&self) -> bool {
-        matches!(self, Body::Ring { half_turns, .. } if *half_turns > 0)
+        matches!(self, Body::Ring { half_turns, .. } if *half_turns != 0)
     }
 }
 
@@ -212,6 +214,9 @@ pub struct Search {
     /// with it the search is centred on the complex wavenumber
     /// `k0 (1 - i / (2 Q))` instead of the real `k0`; `None` searches near the real `k0`.
     pub near_q: Option<f64>,
+    /// Twisted rings: the relative change of `k0` between the windows `K - 1` and `K`
+    /// below which a mode counts as converged in the harmonics (`search.tolerance`).
+    pub harmonic_tolerance: f64,
 }
 
 impl Search {

@@ -40,7 +40,7 @@ pub(crate) enum BodyKindName {
 pub(crate) struct RawBody {
     pub kind: Option<BodyKindName>,
     pub radius: Option<f64>,
-    pub half_turns: Option<u32>,
+    pub half_turns: Option<i32>,
     pub twist_rate: Option<f64>,
 }
 
@@ -136,6 +136,7 @@ pub(crate) struct RawSearch {
     pub count: Option<u32>,
     pub harmonics: Option<u32>,
     pub near_q: Option<f64>,
+    pub tolerance: Option<f64>,
 }
 
 #[derive(Deserialize, Debug, Clone, Copy, PartialEq, Eq)]

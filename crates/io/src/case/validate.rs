@@ -787,7 +787,7 @@ fn mesh_settings(raw: &RawMesh, body: &Body, section: &Section) -> Result<MeshSe
             format!("use at least 2; {DEFAULT_RESOLUTION} is the default"),
         ));
     }
-    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 == 1);
+    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 != 0);
     let pi_symmetric = match raw.pi_symmetric {
         None => odd_ring && outline_shape(section).is_some(),
         Some(false) => false,
@@ -909,7 +909,31 @@ fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Res
         count: count as usize,
         harmonics,
         near_q: near_q(s)?,
+        harmonic_tolerance: harmonic_tolerance(s, body)?,
     })
+}
+
+/// `search.tolerance`: twisted rings only, `0 < tol <= 0.1`.
+fn harmonic_tolerance(s: &RawSearch, body: &Body) -> Result<f64> {
+    let Some(tol) = s.tolerance else {
+        return Ok(DEFAULT_HARMONIC_TOLERANCE);
+    };
+    if !body.is_twisted_ring() {
+        return Err(CaseError::new(
+            "search.tolerance",
+            "search.tolerance sets the harmonic convergence of twisted rings, and this body is not one",
+            "remove it",
+        ));
+    }
+    let tol = finite("search.tolerance", tol)?;
+    if !(tol > 0.0 && tol <= 0.1) {
+        return Err(CaseError::new(
+            "search.tolerance",
+            format!("search.tolerance = {} is outside (0, 0.1]", fmt_num(tol)),
+            format!("give a relative change such as 1e-6 (the default is {DEFAULT_HARMONIC_TOLERANCE:e})"),
+        ));
+    }
+    Ok(tol)
 }
 
 /// `search.near_q`: any finite Q > 0 (Q = Re k0 / (2 |Im k0|) of a radiating mode).
@@ -946,7 +970,7 @@ fn azimuthal_order(m: f64, body: &Body) -> Result<AzimuthalOrder> {
         ));
     }
     let order = AzimuthalOrder::from_twice(twice as i64);
-    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 == 1);
+    let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 != 0);
     if order.is_half_integer() && !odd_ring {
         return Err(CaseError::new(
             "search.m",
@@ -970,14 +994,14 @@ fn harmonics(s: &RawSearch, body: &Body) -> Result<u32> {
         (Body::Ring { half_turns: 0, .. }, Some(k)) if k > 0 => Err(CaseError::new(
             "search.harmonics",
             format!("search.harmonics = {k} on an untwisted ring (body.half_turns = 0): one harmonic is exact there"),
-            "remove it, or give body.half_turns > 0 for a twisted ring",
+            "remove it, or give a nonzero body.half_turns for a twisted ring",
         )),
-        (Body::Ring { half_turns, .. }, Some(0)) if *half_turns > 0 => Err(CaseError::new(
+        (Body::Ring { half_turns, .. }, Some(0)) if *half_turns != 0 => Err(CaseError::new(
             "search.harmonics",
             "search.harmonics = 0 on a twisted ring averages the bend away and gives wrong frequencies and Q",
             format!("use at least 1 (default {DEFAULT_TWISTED_HARMONICS}) and compare with one more to see convergence"),
         )),
-        (Body::Ring { half_turns, .. }, None) if *half_turns > 0 => Ok(DEFAULT_TWISTED_HARMONICS),
+        (Body::Ring { half_turns, .. }, None) if *half_turns != 0 => Ok(DEFAULT_TWISTED_HARMONICS),
         (_, k) => Ok(k.unwrap_or(0)),
     }
 }
@@ -1002,7 +1026,7 @@ fn check_placement(
                     "remove section.centre and set body.radius to the distance from the axis to the section centre",
                 ));
             }
-            if half_turns % 2 == 1 && !shape::is_pi_symmetric(shape) {
+            if half_turns % 2 != 0 && !shape::is_pi_symmetric(shape) {
                 return Err(CaseError::new(
                     "body.half_turns",
                     format!("a ring with an odd number of half turns ({half_turns}) closes on itself only if its section is symmetric under rotation by pi, and this one is not"),
