@@ -390,20 +390,50 @@ impl Mesh {
             }
         }
         let mut tris = std::collections::HashMap::new();
-        for t in &self.triangles {
+        for (i, t) in self.triangles.iter().enumerate() {
             let mut v = t.vertices();
             v.sort_unstable();
-            tris.insert(v, t.region);
+            tris.insert(v, i);
         }
-        for t in &self.triangles {
-            let mut v = t.vertices().map(|n| partners[n.idx()]);
-            v.sort_unstable();
-            if tris.get(&v) != Some(&t.region) {
+        // Each image triangle is renumbered (a cyclic shift, orientation kept) so that its
+        // local vertex k is the image of local vertex k: then local function k of the image
+        // is the rotated local function k, what a symmetry-adapted basis needs.
+        for i in 0..self.triangles.len() {
+            let t = self.triangles[i];
+            let image = t.vertices().map(|n| partners[n.idx()]);
+            let mut key = image;
+            key.sort_unstable();
+            let j = match tris.get(&key) {
+                Some(&j) if self.triangles[j].region == t.region => j,
+                _ => {
+                    return Err(bad(
+                        t.nodes[0].idx(),
+                        "the rotated image of a triangle is not a triangle of the same region"
+                            .into(),
+                    ))
+                }
+            };
+            if j <= i {
+                continue;
+            }
+            let other = self.triangles[j];
+            let shift = (0..3)
+                .find(|s| other.nodes[*s] == image[0])
+                .expect("the image shares its vertices");
+            let mut nodes = other.nodes;
+            for k in 0..3 {
+                nodes[k] = other.nodes[(k + shift) % 3];
+                nodes[3 + k] = other.nodes[3 + (k + shift) % 3];
+            }
+            if nodes[..3] != image[..] {
                 return Err(bad(
                     t.nodes[0].idx(),
-                    "the rotated image of a triangle is not a triangle of the same region".into(),
+                    "the rotated image of a triangle has the opposite orientation".into(),
                 ));
             }
+            self.triangles[j].nodes = nodes;
+            let te = self.triangle_edges[j];
+            self.triangle_edges[j] = std::array::from_fn(|k| te[(k + shift) % 3]);
         }
         self.pi_partners = Some(partners);
         Ok(self)
