@@ -2,9 +2,7 @@
 //! split it exactly, and the rotation commutes with it.
 mod support;
 
-use twistmode_fem::{
-    c64, HarmonicWindow, Order, Placement, PmlStretch, SectionSetup, TwistedRing,
-};
+use twistmode_fem::{c64, HarmonicWindow, Order, Placement, PmlStretch, SectionSetup, TwistedRing};
 use twistmode_mesh::{GeometryOrder, Mesh, NodeId};
 
 /// A structured rectangle about the origin, pi-symmetric (even cell counts), with its
@@ -135,11 +133,7 @@ fn the_rotation_by_pi_commutes_with_the_block_system() {
     let apply = |a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]| -> Vec<c64> {
         let mut y = vec![c64::new(0.0, 0.0); n];
         for j in 0..n {
-            for (i, v) in a
-                .as_ref()
-                .row_idx_of_col(j)
-                .zip(a.as_ref().val_of_col(j))
-            {
+            for (i, v) in a.as_ref().row_idx_of_col(j).zip(a.as_ref().val_of_col(j)) {
                 y[i] += v * x[j];
             }
         }
@@ -155,5 +149,91 @@ fn the_rotation_by_pi_commutes_with_the_block_system() {
             .map(|(p, q)| (p - q).norm())
             .fold(0.0, f64::max);
         assert!(err < 1e-12 * scale, "commutator {err:e} of {scale:e}");
+    }
+}
+
+#[test]
+#[ignore = "experiment"]
+fn transpose_experiment() {
+    let mesh = symmetric_rectangle(GeometryOrder::Linear);
+    let ring = TwistedRing::try_new(&mesh, setup(Order::One, 1.0)).unwrap();
+    let parts = ring.assemble_parts(4).unwrap();
+    let window = HarmonicWindow {
+        centre: 0.0,
+        tau: 0.5,
+        half_width: 2,
+    };
+    let system = ring.block_system(&parts, window, None, 0.0).unwrap();
+    let dofs = ring.numbering();
+    let pts = mesh.points();
+    let find_node = |p: [f64; 2]| {
+        pts.iter()
+            .position(|q| (q[0] - p[0]).abs() < 1e-12 && (q[1] - p[1]).abs() < 1e-12)
+            .unwrap()
+    };
+    // Mirror v -> -v on full DOFs: (target, sign) for transverse and third parts.
+    let n = dofs.full_len();
+    let mut map = vec![(0usize, 0.0f64, false); n];
+    for (e, [a, b]) in mesh.edges().iter().enumerate() {
+        let (pa, pb) = (pts[a.idx()], pts[b.idx()]);
+        let (ma, mb) = (find_node([pa[0], -pa[1]]), find_node([pb[0], -pb[1]]));
+        let e2 = mesh
+            .edges()
+            .iter()
+            .position(|x| {
+                (x[0].idx() == ma && x[1].idx() == mb) || (x[0].idx() == mb && x[1].idx() == ma)
+            })
+            .unwrap();
+        // edges are stored low -> high; the image of a->b is ma->mb.
+        let sign = if mesh.edges()[e2][0].idx() == ma {
+            1.0
+        } else {
+            -1.0
+        };
+        map[dofs.whitney(e)] = (dofs.whitney(e2), sign, false);
+    }
+    for (node, p) in pts.iter().enumerate() {
+        if let Some(v) = dofs.vertex_number(node) {
+            let m = find_node([p[0], -p[1]]);
+            let vm = dofs.vertex_number(m).unwrap();
+            map[dofs.third_vertex(v)] = (dofs.third_vertex(vm), 1.0, true);
+        }
+    }
+    let free = &system.reductions[0];
+    let k = system.stiffness.to_dense();
+    let nb = system.blocks.len();
+    for st in [1.0, -1.0] {
+        for sw in [1.0, -1.0] {
+            for reverse in [false, true] {
+                // T as a dense matrix on the reduced unknowns.
+                let dim = system.dim();
+                let mut t = faer::Mat::<c64>::zeros(dim, dim);
+                for (bi, b) in system.blocks.iter().enumerate() {
+                    let target_block = if reverse {
+                        &system.blocks[nb - 1 - bi]
+                    } else {
+                        b
+                    };
+                    for f in 0..n {
+                        let Some((i, _)) = free.target(f) else {
+                            continue;
+                        };
+                        let (g, s, third) = map[f];
+                        let Some((j, _)) = free.target(g) else {
+                            continue;
+                        };
+                        let sign = s * if third { sw } else { st };
+                        t[(target_block.offset + j, b.offset + i)] = c64::new(sign, 0.0);
+                    }
+                }
+                let tkt = &t * &k * &t;
+                let kt = k.transpose().to_owned();
+                let diff = (&tkt - &kt).norm_max();
+                println!(
+                    "st {st} sw {sw} reverse {reverse}: |TKT - K^T| = {diff:.3e} of {:.3e}",
+                    kt.norm_max()
+                );
+            }
+        }
     }
 }

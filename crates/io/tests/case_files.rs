@@ -198,8 +198,9 @@ fn overrides_change_values_before_validation() {
     }
     assert_eq!(case.search.near_frequency, 6.5e9);
     assert_eq!(case.mesh.order, GeometryOrder::Linear);
-    // Even twist: both sectors physical, no default pi-symmetric mesh.
-    assert!(!case.mesh.pi_symmetric);
+    // Even twist: both sectors physical; a pi-symmetric section is meshed
+    // symmetrically by default so that each sector is solved at half the size.
+    assert!(case.mesh.pi_symmetric);
     assert_eq!(case.search.harmonics, 4);
     // Overrides can add whole tables.
     let case = ring_with(&[
@@ -538,7 +539,17 @@ fn twist_and_order_rules() {
         "symmetric under rotation by pi",
         "even body.half_turns",
     );
-    assert!(poly("body.half_turns=2").is_ok());
+    assert!(poly("body.half_turns=2").is_ok_and(|c| !c.mesh.pi_symmetric));
+    assert_refused(
+        ring_with(&[
+            "body.half_turns=1",
+            "search.m=2.5",
+            "mesh.pi_symmetric=false",
+        ]),
+        "mesh.pi_symmetric",
+        "physical sector",
+        "remove mesh.pi_symmetric",
+    );
     // Either handedness: a negative count is the mirror image.
     assert!(poly("body.half_turns=-2").is_ok());
     assert_refused(

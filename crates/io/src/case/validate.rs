@@ -789,7 +789,19 @@ fn mesh_settings(raw: &RawMesh, body: &Body, section: &Section) -> Result<MeshSe
     }
     let odd_ring = matches!(body, Body::Ring { half_turns, .. } if half_turns % 2 != 0);
     let pi_symmetric = match raw.pi_symmetric {
-        None => odd_ring && outline_shape(section).is_some(),
+        // Twisted rings split into two sectors of half the size when the mesh has the
+        // pi symmetry, so it is the default wherever the section allows it.
+        None => {
+            body.is_twisted_ring()
+                && outline_shape(section).is_some_and(shape::is_pi_symmetric)
+        }
+        Some(false) if odd_ring && outline_shape(section).is_some() => {
+            return Err(CaseError::new(
+                "mesh.pi_symmetric",
+                "a band with an odd number of half turns is solved in its physical sector, which needs a mesh symmetric under rotation by pi",
+                "remove mesh.pi_symmetric (the default meshes the section symmetrically)",
+            ))
+        }
         Some(false) => false,
         Some(true) => {
             if matches!(body, Body::Revolution) {
