@@ -1,4 +1,5 @@
 //! The twisted-ring block system on small structured meshes: the pi-rotation sectors
+#![allow(clippy::needless_range_loop)]
 //! split it exactly, and the rotation commutes with it.
 mod support;
 
