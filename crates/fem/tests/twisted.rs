@@ -1,6 +1,6 @@
 //! The twisted-ring block system on small structured meshes: the pi-rotation sectors
-#![allow(clippy::needless_range_loop)]
 //! split it exactly, and the rotation commutes with it.
+#![allow(clippy::needless_range_loop)]
 mod support;
 
 use twistmode_fem::{c64, HarmonicWindow, Order, Placement, PmlStretch, SectionSetup, TwistedRing};
