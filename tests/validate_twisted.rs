@@ -87,7 +87,9 @@ fn twisted(case: &Case, m: f64, k: u32, s: f64, count: usize) -> Vec<c64> {
         tau: ring.tau(),
         half_width: k,
     };
-    let system = ring.block_system(&parts, window, Some(s), 0.0).unwrap();
+    let system = ring
+        .block_system(&parts, window, Some(s), 0.0, false)
+        .unwrap();
     nearest_k0(system.stiffness, system.mass, case.search.k0(), count)
 }
 

@@ -21,7 +21,7 @@ use twistmode_mesh::{boundary_names, Mesh, RegionKind};
 
 use crate::coordinates::{CoordinateMap, EquivalentMedium, Placement, PmlStretch};
 use crate::dofs::{ConstraintSummary, DofMap, Wall};
-use crate::element::Order;
+use crate::element::{Order, IDENTITY_FACES};
 use crate::error::FemError;
 use crate::geometry::ElementGeometry;
 use crate::harmonics::PointMedium;
@@ -80,7 +80,7 @@ pub fn element_matrices(
     m_trial: f64,
     medium: impl Fn(f64, f64) -> Option<EquivalentMedium>,
 ) -> Result<ElementMatrices, [f64; 2]> {
-    let parts = element_parts(geometry, order, rule, &[0], |u, v| {
+    let parts = element_parts(geometry, order, IDENTITY_FACES, rule, &[0], |u, v| {
         medium(u, v).map(PointMedium::invariant)
     })?;
     Ok(ElementMatrices {

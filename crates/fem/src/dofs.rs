@@ -53,6 +53,9 @@ pub struct LocalDofs {
     pub transverse: usize,
     /// Total number of local functions (6 or 14).
     pub len: usize,
+    /// Vertex labels of the two face functions (order 2; see
+    /// [`crate::element::nedelec_reference_with_faces`]).
+    pub faces: [u8; 3],
 }
 
 /// Global DOF numbering and the map to the reduced (constrained) system.
@@ -66,6 +69,8 @@ pub struct DofMap {
     reduced_of_full: Vec<usize>,
     full_of_reduced: Vec<usize>,
     summary: ConstraintSummary,
+    /// Face-function vertex labels per triangle; `None`: the default labels everywhere.
+    face_labels: Option<Vec<[u8; 3]>>,
 }
 
 /// Marker for an eliminated DOF in `reduced_of_full`.
@@ -110,6 +115,7 @@ impl DofMap {
                 constrained_third: 0,
                 gradient_space: 0,
             },
+            face_labels: None,
         };
         let full = map.full_len();
         // Which edges lose their tangential DOFs, which lose their third-component DOFs.
@@ -202,6 +208,12 @@ impl DofMap {
         Ok(map)
     }
 
+    /// The same numbering with the face functions of each triangle built on the given
+    /// vertex labels (one permutation of `0, 1, 2` per triangle).
+    pub fn with_face_labels(mut self, labels: Vec<[u8; 3]>) -> DofMap {
+        self.face_labels = Some(labels);
+        self
+    }
     /// Element order.
     pub fn order(&self) -> Order {
         self.order
@@ -301,6 +313,10 @@ impl DofMap {
             sign,
             transverse: nt,
             len: nt + self.order.scalar_per_triangle(),
+            faces: self
+                .face_labels
+                .as_ref()
+                .map_or(crate::element::IDENTITY_FACES, |f| f[t]),
         }
     }
 

@@ -69,12 +69,7 @@ fn cross(a: [f64; 2], b: [f64; 2]) -> f64 {
 /// Whitney function of local edge `k` and its (constant) curl, reference coordinates.
 #[inline]
 fn whitney(l: &[f64; 3], k: usize) -> ([f64; 2], f64) {
-    let (a, b) = (k, (k + 1) % 3);
-    let (ga, gb) = (GRAD_BARYCENTRIC[a], GRAD_BARYCENTRIC[b]);
-    (
-        [l[a] * gb[0] - l[b] * ga[0], l[a] * gb[1] - l[b] * ga[1]],
-        2.0 * cross(ga, gb),
-    )
+    whitney_pair(l, k, (k + 1) % 3)
 }
 
 /// Transverse reference functions at `(xi, eta)`: vector values (components
@@ -102,9 +97,49 @@ pub fn nedelec_reference(
         values[3 + k] = [l[a] * gb[0] + l[b] * ga[0], l[a] * gb[1] + l[b] * ga[1]];
         curls[3 + k] = 0.0;
     }
-    // Face functions l_c W_k with c the vertex opposite edge k: (c, k) = (2, 0), (0, 1).
-    for (slot, (c, k)) in [(2usize, 0usize), (0, 1)].into_iter().enumerate() {
-        let (w, cw) = whitney(&l, k);
+    faces(IDENTITY_FACES, &l, values, curls);
+}
+
+/// The vertex labels of the default face functions: `l_2 W_01` and `l_0 W_12`.
+pub const IDENTITY_FACES: [u8; 3] = [0, 1, 2];
+
+/// [`nedelec_reference`] with the two face functions built on the vertex labels `p`
+/// (a permutation of `0, 1, 2`): `l_p2 W_(p0 p1)` and `l_p0 W_(p1 p2)`. The three
+/// functions `l_c W_ab` of a triangle sum to zero, so any labelling spans the same
+/// face space; a labelling lets the face functions of a mirror-image triangle be the
+/// exact images of the original's (a reflection reverses the vertex order).
+pub fn nedelec_reference_with_faces(
+    order: Order,
+    p: [u8; 3],
+    xi: f64,
+    eta: f64,
+    values: &mut [[f64; 2]],
+    curls: &mut [f64],
+) {
+    nedelec_reference(order, xi, eta, values, curls);
+    if order == Order::Two && p != IDENTITY_FACES {
+        faces(p, &barycentric(xi, eta), values, curls);
+    }
+}
+
+/// `l_a grad l_b - l_b grad l_a` and its curl, for any vertex pair.
+#[inline]
+fn whitney_pair(l: &[f64; 3], a: usize, b: usize) -> ([f64; 2], f64) {
+    let (ga, gb) = (GRAD_BARYCENTRIC[a], GRAD_BARYCENTRIC[b]);
+    (
+        [l[a] * gb[0] - l[b] * ga[0], l[a] * gb[1] - l[b] * ga[1]],
+        2.0 * cross(ga, gb),
+    )
+}
+
+/// The face functions `l_p2 W_(p0 p1)` and `l_p0 W_(p1 p2)` into slots 6 and 7.
+fn faces(p: [u8; 3], l: &[f64; 3], values: &mut [[f64; 2]], curls: &mut [f64]) {
+    let p = p.map(usize::from);
+    for (slot, (c, a, b)) in [(p[2], p[0], p[1]), (p[0], p[1], p[2])]
+        .into_iter()
+        .enumerate()
+    {
+        let (w, cw) = whitney_pair(l, a, b);
         let gc = GRAD_BARYCENTRIC[c];
         values[6 + slot] = [l[c] * w[0], l[c] * w[1]];
         curls[6 + slot] = cross(gc, w) + l[c] * cw;
@@ -190,6 +225,28 @@ mod tests {
                     assert!(m1.abs() < 1e-14, "function {i} edge {k}: {m1}");
                 }
             }
+        }
+    }
+
+    #[test]
+    fn face_labellings_span_one_space() {
+        // l2 W01 + l0 W12 + l1 W20 = 0 (expand the three products): any two of the
+        // three functions span the face space, whatever the labelling.
+        let (x, y) = (0.21, 0.33);
+        let mut v = [[0.0; 2]; 8];
+        let mut c = [0.0; 8];
+        let mut vp = [[0.0; 2]; 8];
+        let mut cp = [0.0; 8];
+        nedelec_reference(Order::Two, x, y, &mut v, &mut c);
+        nedelec_reference_with_faces(Order::Two, [1, 2, 0], x, y, &mut vp, &mut cp);
+        // Labels (1, 2, 0): l0 W12 and l1 W20 = -(l2 W01 + l0 W12).
+        for d in 0..2 {
+            assert!((vp[6][d] - v[7][d]).abs() < 1e-15);
+            assert!((vp[7][d] + v[6][d] + v[7][d]).abs() < 1e-15);
+        }
+        assert!((cp[7] + c[6] + c[7]).abs() < 1e-14);
+        for k in 0..6 {
+            assert_eq!(v[k], vp[k]);
         }
     }
 

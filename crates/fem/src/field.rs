@@ -12,7 +12,7 @@ use twistmode_mesh::RegionKind;
 
 use crate::assembly::{AssembledSystem, SectionProblem};
 use crate::dofs::DofMap;
-use crate::element::{lagrange_reference, nedelec_reference};
+use crate::element::{lagrange_reference, nedelec_reference_with_faces};
 use crate::geometry::ElementGeometry;
 use crate::quadrature::TriangleRule;
 use crate::tensor::{apply3, det3, inverse3, transpose3};
@@ -136,7 +136,7 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
         let mut nc = [0.0; 8];
         let mut lv = [0.0; 6];
         let mut lg = [[0.0; 2]; 6];
-        nedelec_reference(order, xi, eta, &mut nv, &mut nc);
+        nedelec_reference_with_faces(order, ld.faces, xi, eta, &mut nv, &mut nc);
         lagrange_reference(order, xi, eta, &mut lv, &mut lg);
         let mut e = [c64::new(0.0, 0.0); 3];
         for k in 0..ld.transverse {

@@ -24,7 +24,7 @@
 use num_complex::Complex64 as c64;
 
 use crate::coordinates::EquivalentMedium;
-use crate::element::{lagrange_reference, nedelec_reference, Order};
+use crate::element::{lagrange_reference, nedelec_reference_with_faces, Order};
 use crate::geometry::ElementGeometry;
 use crate::harmonics::PointMedium;
 use crate::quadrature::TriangleRule;
@@ -93,6 +93,7 @@ impl PointBasis {
     fn at(
         geometry: &ElementGeometry,
         order: Order,
+        faces: [u8; 3],
         xi: f64,
         eta: f64,
     ) -> (PointBasis, [f64; 2], f64) {
@@ -103,7 +104,7 @@ impl PointBasis {
         let mut lag_values = [0.0; 6];
         let mut lag_grads = [[0.0; 2]; 6];
         let mapped = geometry.map(xi, eta);
-        nedelec_reference(order, xi, eta, &mut ned_values, &mut ned_curls);
+        nedelec_reference_with_faces(order, faces, xi, eta, &mut ned_values, &mut ned_curls);
         lagrange_reference(order, xi, eta, &mut lag_values, &mut lag_grads);
         let mut b = PointBasis {
             value: [[0.0; 3]; MAX_LOCAL],
@@ -171,12 +172,13 @@ fn accumulate(b: &PointBasis, medium: &EquivalentMedium, weight: c64, acc: &mut 
     }
 }
 
-/// The parts of one triangle for each harmonic in `harmonics`, by quadrature.
-/// `medium(u, v)` gives the medium at a physical point (`None`: the map is singular
-/// there, reported as the point).
+/// The parts of one triangle for each harmonic in `harmonics`, by quadrature, with the
+/// face functions built on the vertex labels `faces`. `medium(u, v)` gives the medium
+/// at a physical point (`None`: the map is singular there, reported as the point).
 pub fn element_parts(
     geometry: &ElementGeometry,
     order: Order,
+    faces: [u8; 3],
     rule: &TriangleRule,
     harmonics: &[i32],
     medium: impl Fn(f64, f64) -> Option<PointMedium>,
@@ -190,7 +192,7 @@ pub fn element_parts(
     // Per point and term: the unit-weight parts, then each harmonic adds its multiple.
     let mut unit: [Vec<c64>; PARTS] = std::array::from_fn(|_| vec![zero; n * n]);
     for (point, weight) in rule.points.iter().zip(&rule.weights) {
-        let (basis, x, det) = PointBasis::at(geometry, order, point[0], point[1]);
+        let (basis, x, det) = PointBasis::at(geometry, order, faces, point[0], point[1]);
         let point_medium = medium(x[0], x[1]).ok_or(x)?;
         let dx = weight * det;
         for term in point_medium.terms() {

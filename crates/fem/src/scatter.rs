@@ -40,6 +40,8 @@ pub struct BlockPattern {
     slots: Vec<u32>,
     /// Sign of each local entry (product of the two edge signs).
     signs: Vec<f64>,
+    /// Face-function labels of each triangle.
+    faces: Vec<[u8; 3]>,
 }
 
 impl BlockPattern {
@@ -92,6 +94,7 @@ impl BlockPattern {
                 }
             }
         }
+        let faces = locals.iter().map(|ld| ld.faces).collect();
         Ok(BlockPattern {
             n,
             col_ptr,
@@ -99,6 +102,7 @@ impl BlockPattern {
             local_len: len,
             slots,
             signs,
+            faces,
         })
     }
 
@@ -156,12 +160,19 @@ impl AssembledParts {
                 .into_par_iter()
                 .map(|t| {
                     let geometry = ElementGeometry::of_triangle(mesh, t);
-                    element_parts(&geometry, order, rule, harmonics, |u, v| medium(t, u, v))
-                        .map_err(|p| FemError::SingularMap {
-                            triangle: t,
-                            u: p[0],
-                            v: p[1],
-                        })
+                    element_parts(
+                        &geometry,
+                        order,
+                        pattern.faces[t],
+                        rule,
+                        harmonics,
+                        |u, v| medium(t, u, v),
+                    )
+                    .map_err(|p| FemError::SingularMap {
+                        triangle: t,
+                        u: p[0],
+                        v: p[1],
+                    })
                 })
                 .collect::<Result<_, _>>()?;
             for (offset, parts) in batch.iter().enumerate() {
@@ -197,27 +208,49 @@ impl AssembledParts {
     }
 }
 
-/// Full DOF -> reduced unknown and weight, or removed.
+/// Full DOF -> the reduced unknowns whose basis vectors contain it, with weights: the
+/// columns of an orthonormal basis `R` of the unknowns solved for, stored by rows.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Reduction {
-    target: Vec<Option<(u32, f64)>>,
+    /// Targets of full DOF `f` are `entries[start[f]..start[f + 1]]`.
+    start: Vec<u32>,
+    entries: Vec<(u32, f64)>,
     len: usize,
 }
 
 impl Reduction {
-    /// A reduction from its map; `len` is the number of reduced unknowns.
+    /// A reduction in which each full DOF goes to at most one unknown; `len` is the
+    /// number of reduced unknowns.
     pub fn new(target: Vec<Option<(u32, f64)>>, len: usize) -> Reduction {
-        Reduction { target, len }
+        Self::from_lists(
+            target
+                .into_iter()
+                .map(|t| t.into_iter().collect())
+                .collect(),
+            len,
+        )
+    }
+    /// A reduction from the target list of every full DOF.
+    pub fn from_lists(lists: Vec<Vec<(u32, f64)>>, len: usize) -> Reduction {
+        let mut start = Vec::with_capacity(lists.len() + 1);
+        let mut entries = Vec::new();
+        start.push(0);
+        for l in lists {
+            entries.extend(l);
+            start.push(entries.len() as u32);
+        }
+        Reduction {
+            start,
+            entries,
+            len,
+        }
     }
     /// The elimination of the constrained DOFs of `dofs` (weight 1).
     pub fn of_constraints(dofs: &DofMap) -> Reduction {
         let target = (0..dofs.full_len())
             .map(|f| dofs.reduced_index(f).map(|r| (r as u32, 1.0)))
             .collect();
-        Reduction {
-            target,
-            len: dofs.reduced_len(),
-        }
+        Self::new(target, dofs.reduced_len())
     }
     /// Reduced unknowns.
     pub fn len(&self) -> usize {
@@ -229,18 +262,32 @@ impl Reduction {
     }
     /// Full DOFs.
     pub fn full_len(&self) -> usize {
-        self.target.len()
+        self.start.len() - 1
     }
-    /// Where full DOF `f` goes.
-    pub fn target(&self, f: usize) -> Option<(usize, f64)> {
-        self.target[f].map(|(i, w)| (i as usize, w))
+    /// The unknowns full DOF `f` belongs to, with its weight in each.
+    pub fn targets(&self, f: usize) -> &[(u32, f64)] {
+        &self.entries[self.start[f] as usize..self.start[f + 1] as usize]
+    }
+    /// Whether full DOF `f` is part of any unknown.
+    pub fn keeps(&self, f: usize) -> bool {
+        self.start[f] < self.start[f + 1]
+    }
+    /// The full DOFs and weights of each reduced unknown's basis vector.
+    pub fn columns(&self) -> Vec<Vec<(usize, f64)>> {
+        let mut cols = vec![Vec::new(); self.len];
+        for f in 0..self.full_len() {
+            for &(i, w) in self.targets(f) {
+                cols[i as usize].push((f, w));
+            }
+        }
+        cols
     }
     /// The first full DOF of each reduced unknown's basis vector.
     pub fn representatives(&self) -> Vec<usize> {
         let mut first = vec![usize::MAX; self.len];
-        for (f, t) in self.target.iter().enumerate() {
-            if let Some((i, _)) = t {
-                let slot = &mut first[*i as usize];
+        for f in 0..self.full_len() {
+            for &(i, _) in self.targets(f) {
+                let slot = &mut first[i as usize];
                 *slot = (*slot).min(f);
             }
         }
@@ -248,11 +295,12 @@ impl Reduction {
     }
     /// The full vector `R y` of a reduced one.
     pub fn expand(&self, reduced: &[c64]) -> Vec<c64> {
-        self.target
-            .iter()
-            .map(|t| match t {
-                Some((i, w)) => reduced[*i as usize] * *w,
-                None => c64::new(0.0, 0.0),
+        (0..self.full_len())
+            .map(|f| {
+                self.targets(f)
+                    .iter()
+                    .map(|&(i, w)| reduced[i as usize] * w)
+                    .sum()
             })
             .collect()
     }
@@ -277,12 +325,11 @@ impl ReducedPattern {
         // (reduced column, reduced row, full position, weight)
         let mut entries: Vec<(u32, u32, u32, f64)> = Vec::with_capacity(pattern.nnz());
         for c in 0..pattern.n {
-            let Some((jc, wc)) = trial.target[c] else {
-                continue;
-            };
-            for p in pattern.col_ptr[c]..pattern.col_ptr[c + 1] {
-                if let Some((ir, wr)) = test.target[pattern.row_idx[p]] {
-                    entries.push((jc, ir, p as u32, wr * wc));
+            for &(jc, wc) in trial.targets(c) {
+                for p in pattern.col_ptr[c]..pattern.col_ptr[c + 1] {
+                    for &(ir, wr) in test.targets(pattern.row_idx[p]) {
+                        entries.push((jc, ir, p as u32, wr * wc));
+                    }
                 }
             }
         }

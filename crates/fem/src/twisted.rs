@@ -36,7 +36,7 @@ use crate::dofs::DofMap;
 use crate::error::FemError;
 use crate::harmonics::{twisted_ring_medium, PointMedium};
 use crate::scatter::{AssembledParts, BlockPattern, ReducedPattern, Reduction};
-use crate::symmetry::PiRotation;
+use crate::symmetry::{mirror_face_labels, Mirror, PiRotation};
 use crate::tensor::Tensor3;
 
 /// The harmonics `m + k tau`, `k = -K..K`, of a twisted-ring solve.
@@ -112,6 +112,14 @@ pub struct BlockSystem {
     pub sector: Option<f64>,
     /// Coupling blocks kept and dropped.
     pub couplings: Couplings,
+    /// When the unknowns are eigenvectors of the mirror `T` ([`crate::symmetry::Mirror`])
+    /// and the stored matrices are `K D` and `M D` (complex-symmetric), the diagonal
+    /// `D` of their eigenvalues `+-1`. An eigenvector `y` of the stored pencil is then
+    /// `x = D y` of `(K, M)`.
+    pub mirror_signs: Option<Vec<f64>>,
+    /// With `mirror_signs`: the largest `|a_ij - a_ji|` of `K D` and `M D` relative to
+    /// their largest entry before they were symmetrised (quadrature level).
+    pub asymmetry: f64,
 }
 
 impl BlockSystem {
@@ -120,11 +128,22 @@ impl BlockSystem {
         self.blocks.iter().map(|b| b.len).sum()
     }
 
-    /// Full coefficient vector of each harmonic (block order) from a solution vector.
+    /// The solution `x` of `(K, M)` from an eigenvector `y` of the stored pencil
+    /// (`x = D y` when the stored pencil is the mirrored one).
+    pub fn unmirror(&self, y: &[c64]) -> Vec<c64> {
+        match &self.mirror_signs {
+            None => y.to_vec(),
+            Some(d) => y.iter().zip(d).map(|(v, s)| v * s).collect(),
+        }
+    }
+
+    /// Full coefficient vector of each harmonic (block order) from an eigenvector of the
+    /// stored pencil.
     pub fn harmonic_fields(&self, y: &[c64]) -> Vec<Vec<c64>> {
+        let x = self.unmirror(y);
         self.blocks
             .iter()
-            .map(|b| self.reductions[b.reduction].expand(&y[b.offset..b.offset + b.len]))
+            .map(|b| self.reductions[b.reduction].expand(&x[b.offset..b.offset + b.len]))
             .collect()
     }
 
@@ -159,6 +178,7 @@ pub struct TwistedRing<'m> {
     numbering: DofMap,
     pattern: BlockPattern,
     rotation: Option<PiRotation>,
+    mirror: Option<Mirror>,
 }
 
 fn isotropic(t: &Tensor3) -> Option<c64> {
@@ -241,7 +261,32 @@ impl<'m> TwistedRing<'m> {
             numbering,
             pattern,
             rotation,
+            mirror: None,
         })
+    }
+
+    /// Sets up the mirror `v -> -v` (`mirror_nodes`: the image of every node) so that
+    /// block systems can be made complex-symmetric ([`TwistedRing::block_system`] with
+    /// `symmetric`): the face functions are relabelled so that mirror images match,
+    /// and the DOF numbering, pattern and rotation are rebuilt on those labels.
+    pub fn with_mirror(
+        mut self,
+        mirror_nodes: &[twistmode_mesh::NodeId],
+    ) -> Result<TwistedRing<'m>, FemError> {
+        let mesh = self.problem.mesh();
+        let labels = mirror_face_labels(mesh, mirror_nodes)?;
+        self.numbering = self.problem.dofs(0.0)?.with_face_labels(labels);
+        self.pattern = BlockPattern::new(mesh, &self.numbering)?;
+        if self.rotation.is_some() {
+            self.rotation = Some(PiRotation::try_new(mesh, &self.numbering)?);
+        }
+        self.mirror = Some(Mirror::try_new(mesh, &self.numbering, mirror_nodes)?);
+        Ok(self)
+    }
+
+    /// Whether the mirror is set up (complex-symmetric block systems available).
+    pub fn has_mirror(&self) -> bool {
+        self.mirror.is_some()
     }
 
     /// The section problem (mesh, setup, medium at `w = 0` for field read-back).
@@ -319,18 +364,52 @@ impl<'m> TwistedRing<'m> {
         }
     }
 
+    /// [`TwistedRing::reductions`] turned into eigenvectors of the mirror, with the
+    /// eigenvalue of every unknown.
+    fn mirrored_reductions(
+        &self,
+        sector: Option<f64>,
+    ) -> Result<(Vec<Reduction>, Vec<Vec<f64>>), FemError> {
+        let mirror = self
+            .mirror
+            .as_ref()
+            .ok_or_else(|| FemError::NotPiSymmetric {
+                reason: "a symmetric block system needs the mirror (TwistedRing::with_mirror)"
+                    .into(),
+            })?;
+        let mut reductions = Vec::new();
+        let mut signs = Vec::new();
+        for r in self.reductions(sector)? {
+            let (adapted, d) = mirror.adapted(&r)?;
+            reductions.push(adapted);
+            signs.push(d);
+        }
+        Ok((reductions, signs))
+    }
+
     /// The block pencil of `window` from `parts`: the whole system (`sector = None`) or
     /// the sector `s = sector` (blocks `k` in the sector `s (-1)^k` of `P`). Coupling
     /// harmonics whose parts are all below `drop_below` times the largest entry of
     /// harmonic 0 are left out and counted.
+    ///
+    /// With `symmetric` (and the mirror set up, [`TwistedRing::with_mirror`]) the stored
+    /// matrices are `K T` and `M T`, complex-symmetric, averaged with their transposes
+    /// to remove the quadrature-level asymmetry (measured in
+    /// [`BlockSystem::asymmetry`]).
     pub fn block_system(
         &self,
         parts: &AssembledParts,
         window: HarmonicWindow,
         sector: Option<f64>,
         drop_below: f64,
+        symmetric: bool,
     ) -> Result<BlockSystem, FemError> {
-        let reductions = self.reductions(sector)?;
+        let (reductions, block_signs) = if symmetric {
+            let (r, d) = self.mirrored_reductions(sector)?;
+            (r, Some(d))
+        } else {
+            (self.reductions(sector)?, None)
+        };
         let nb = window.len();
         let reduction_of = |b: usize| -> usize {
             match sector {
@@ -444,8 +523,21 @@ impl<'m> TwistedRing<'m> {
         }
         drop(values);
         let symbolic = SymbolicSparseColMat::new_checked(n, n, col_ptr, None, row_idx);
-        let stiffness = SparseColMat::new(symbolic.clone(), kv);
-        let mass = SparseColMat::new(symbolic, mv);
+        let mut stiffness = SparseColMat::new(symbolic.clone(), kv);
+        let mut mass = SparseColMat::new(symbolic, mv);
+        let (mut mirror_signs, mut asymmetry) = (None, 0.0);
+        if let Some(per_reduction) = block_signs {
+            let mut d = Vec::with_capacity(n);
+            for b in &blocks {
+                d.extend_from_slice(&per_reduction[b.reduction]);
+            }
+            let (k_sym, ak) = symmetrised_scaled(&stiffness, &d);
+            let (m_sym, am) = symmetrised_scaled(&mass, &d);
+            stiffness = k_sym;
+            mass = m_sym;
+            asymmetry = ak.max(am);
+            mirror_signs = Some(d);
+        }
         Ok(BlockSystem {
             stiffness,
             mass,
@@ -454,6 +546,40 @@ impl<'m> TwistedRing<'m> {
             reductions,
             sector,
             couplings,
+            mirror_signs,
+            asymmetry,
         })
     }
+}
+
+/// `(A D + (A D)^T) / 2` for a diagonal `D`, and the relative asymmetry of `A D`
+/// before averaging. The pattern of `A` must be symmetric.
+fn symmetrised_scaled(a: &SparseColMat<usize, c64>, d: &[f64]) -> (SparseColMat<usize, c64>, f64) {
+    let n = a.ncols();
+    let a = a.as_ref();
+    let col_ptr: Vec<usize> = a.col_ptr().to_vec();
+    let row_idx: Vec<usize> = a.row_idx().to_vec();
+    let values: Vec<c64> = (0..n)
+        .flat_map(|j| a.val_of_col(j).iter().map(move |v| v * d[j]))
+        .collect();
+    let find = |i: usize, j: usize| -> Option<usize> {
+        let rows = &row_idx[col_ptr[j]..col_ptr[j + 1]];
+        rows.binary_search(&i).ok().map(|p| col_ptr[j] + p)
+    };
+    let scale = values.iter().map(|v| v.norm()).fold(0.0, f64::max);
+    let mut averaged = values.clone();
+    let mut worst = 0.0f64;
+    for j in 0..n {
+        for p in col_ptr[j]..col_ptr[j + 1] {
+            let i = row_idx[p];
+            let other = find(j, i).map_or(c64::new(0.0, 0.0), |q| values[q]);
+            worst = worst.max((values[p] - other).norm());
+            averaged[p] = (values[p] + other) * 0.5;
+        }
+    }
+    let symbolic = SymbolicSparseColMat::new_checked(n, n, col_ptr, None, row_idx);
+    (
+        SparseColMat::new(symbolic, averaged),
+        if scale > 0.0 { worst / scale } else { 0.0 },
+    )
 }

@@ -28,7 +28,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             half_width: k,
         };
         let s = if m.twice() % 2 == 0 { 1.0 } else { -1.0 };
-        let system = ring.block_system(&parts, window, Some(s), 0.0)?;
+        let system = ring.block_system(&parts, window, Some(s), 0.0, false)?;
         let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
         for ordering in [FillOrdering::Colamd, FillOrdering::AmdSymmetric] {
             let t = Instant::now();

@@ -79,7 +79,7 @@ impl SectorSearch<'_, '_> {
         let start = Instant::now();
         let system = self
             .ring
-            .block_system(self.parts, window, sector, self.drop_below)?;
+            .block_system(self.parts, window, sector, self.drop_below, false)?;
         let assembled = start.elapsed().as_secs_f64();
         let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
         let opts = SolveOptions {
