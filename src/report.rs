@@ -81,12 +81,16 @@ pub fn modes_table(modes: &[ModeReport]) -> Table {
     let (fu, fs) = frequency_unit(f_ref);
     let l_ref = modes.first().map(|m| m.wavelength_m).unwrap_or(1.0);
     let (lu, ls) = length_unit(l_ref);
+    let twisted = modes.iter().any(|m| m.twist.is_some());
     let order_head = if modes.iter().any(|m| m.beta.is_some()) {
         "beta (rad/m)"
+    } else if twisted {
+        // A twisted-ring mode is labelled by its dominant harmonic.
+        "n"
     } else {
         "m"
     };
-    let mut table = Table::new([
+    let mut head = vec![
         "#".to_string(),
         order_head.to_string(),
         format!("Re f ({fu})"),
@@ -97,8 +101,16 @@ pub fn modes_table(modes: &[ModeReport]) -> Table {
         "confinement".to_string(),
         "class".to_string(),
         "residual".to_string(),
-        "flags".to_string(),
-    ]);
+    ];
+    if twisted {
+        head.extend([
+            "sector".to_string(),
+            "dK".to_string(),
+            "Q material".to_string(),
+        ]);
+    }
+    head.push("flags".to_string());
+    let mut table = Table::new(head);
     for m in modes {
         let order = match (m.m, m.beta) {
             (Some(m), _) => format!("{m}"),
@@ -106,23 +118,52 @@ pub fn modes_table(modes: &[ModeReport]) -> Table {
             _ => String::new(),
         };
         let flags: Vec<String> = m.flags.iter().map(|f| f.short()).collect();
-        table
-            .try_push_row([
-                m.index.to_string(),
-                order,
-                format!("{:.9}", m.frequency_hz[0] / fs),
-                format!("{:.3e}", m.frequency_hz[1] / fs),
-                m.q.map(|q| format!("{q:.4e}"))
+        // Radiation Q with a PML inside the caustic is not determined by this model.
+        let q_undetermined = m
+            .flags
+            .iter()
+            .any(|f| matches!(f, twistmode::analysis::Flag::PmlInsideCaustic { .. }));
+        let q = if q_undetermined {
+            "n/d".to_string()
+        } else {
+            m.q.map(|q| format!("{q:.4e}"))
+                .unwrap_or_else(|| "inf".into())
+        };
+        let mut row = vec![
+            m.index.to_string(),
+            order,
+            format!("{:.9}", m.frequency_hz[0] / fs),
+            format!("{:.3e}", m.frequency_hz[1] / fs),
+            q,
+            format!("{:.6}", m.wavelength_m / ls),
+            m.effective_index
+                .map(|n| format!("{n:.6}"))
+                .unwrap_or_default(),
+            format!("{:.3}", m.confinement),
+            m.label.clone(),
+            format!("{:.1e}", m.residual),
+        ];
+        if twisted {
+            let t = m.twist.as_ref();
+            row.push(
+                t.and_then(|t| t.sector)
+                    .map(|s| format!("{s:+}"))
+                    .unwrap_or_else(|| "-".into()),
+            );
+            row.push(
+                t.and_then(|t| t.convergence)
+                    .map(|c| format!("{c:.1e}"))
+                    .unwrap_or_else(|| "-".into()),
+            );
+            row.push(
+                t.and_then(|t| t.q_material)
+                    .map(|q| format!("{q:.4e}"))
                     .unwrap_or_else(|| "inf".into()),
-                format!("{:.6}", m.wavelength_m / ls),
-                m.effective_index
-                    .map(|n| format!("{n:.6}"))
-                    .unwrap_or_default(),
-                format!("{:.3}", m.confinement),
-                m.label.clone(),
-                format!("{:.1e}", m.residual),
-                flags.join("; "),
-            ])
+            );
+        }
+        row.push(flags.join("; "));
+        table
+            .try_push_row(row)
             .expect("row has one cell per header");
     }
     table

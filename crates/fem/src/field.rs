@@ -95,6 +95,8 @@ pub struct FieldEvaluator<'a, 'm> {
     problem: &'a SectionProblem<'m>,
     dofs: &'a DofMap,
     full: Vec<c64>,
+    /// The third coordinate `w` at which the map (and so the frame) is taken.
+    w: f64,
 }
 
 impl<'a, 'm> FieldEvaluator<'a, 'm> {
@@ -108,6 +110,7 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
             problem,
             dofs: &system.dofs,
             full: system.dofs.expand(reduced),
+            w: 0.0,
         }
     }
 
@@ -122,7 +125,17 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
             problem,
             dofs,
             full,
+            w: 0.0,
         }
+    }
+
+    /// The same field read with the map at `w` (default 0): for a twisted ring, the
+    /// section frame `(u_hat, v_hat, w_hat)` and the Cartesian field at azimuth `w`,
+    /// given the covariant components there (for instance
+    /// [`crate::twisted::BlockSystem::field_at`]).
+    pub fn at_azimuth(mut self, w: f64) -> Self {
+        self.w = w;
+        self
     }
 
     /// Covariant components `(e_u, e_v, e_w)` and the point `(u, v)` at the
@@ -158,8 +171,8 @@ impl<'a, 'm> FieldEvaluator<'a, 'm> {
         let region = medium.triangle_region[t];
         let j = medium
             .map
-            .jacobian(x[0], x[1], 0.0, medium.stretched[region]);
-        let j_real = medium.map.jacobian(x[0], x[1], 0.0, false);
+            .jacobian(x[0], x[1], self.w, medium.stretched[region]);
+        let j_real = medium.map.jacobian(x[0], x[1], self.w, false);
         let j_inv_t = transpose3(&inverse3(&j)?);
         let field = apply3(&j_inv_t, &e);
         let col = |k: usize| [j_real[0][k].re, j_real[1][k].re, j_real[2][k].re];

@@ -147,6 +147,22 @@ impl BlockSystem {
             .collect()
     }
 
+    /// The full coefficient vector of the covariant field at azimuth `phi` (rotating
+    /// frame of the section), `sum_k x_k exp(i (m + k tau) phi)`, from an eigenvector of
+    /// the stored pencil; read it with a field evaluator at that azimuth
+    /// ([`crate::FieldEvaluator::at_azimuth`]).
+    pub fn field_at(&self, y: &[c64], phi: f64) -> Vec<c64> {
+        let fields = self.harmonic_fields(y);
+        let mut sum = vec![c64::new(0.0, 0.0); fields.first().map_or(0, Vec::len)];
+        for (b, f) in self.blocks.iter().zip(&fields) {
+            let phase = c64::from_polar(1.0, b.order * phi);
+            for (s, x) in sum.iter_mut().zip(f) {
+                *s += x * phase;
+            }
+        }
+        sum
+    }
+
     /// The global unknowns of each 2D degree of freedom across the harmonics (an unknown
     /// is identified by the first full DOF of its basis vector), in full-DOF order: the
     /// groups of a node-major ordering.

@@ -216,3 +216,53 @@ fn the_mirrored_pencil_is_complex_symmetric_with_the_same_eigenvalues() {
         }
     }
 }
+
+#[test]
+fn a_band_with_one_half_turn_closes_on_itself_turned_by_pi() {
+    // Closure: going once round, the section frame turns by pi, so the field of a
+    // physical mode satisfies E(phi + 2 pi) = P E(phi) (covariant components, P the
+    // rotation of the section by pi), harmonic by harmonic and so at every phi.
+    let mesh = symmetric_rectangle(GeometryOrder::Quadratic);
+    for half_turns in [1.0, 3.0, -1.0] {
+        let ring = TwistedRing::try_new(&mesh, setup(Order::Two, half_turns)).unwrap();
+        let parts = ring.assemble_parts(4).unwrap();
+        for (centre, sector) in [(2.0, 1.0), (2.5, -1.0)] {
+            let window = HarmonicWindow {
+                centre,
+                tau: 0.5 * half_turns,
+                half_width: 2,
+            };
+            let system = ring
+                .block_system(&parts, window, Some(sector), 0.0, false)
+                .unwrap();
+            let pencil =
+                twistmode_eigen::Pencil::try_new(system.stiffness.clone(), system.mass.clone())
+                    .unwrap();
+            let opts = twistmode_eigen::SolveOptions {
+                count: 2,
+                tol: 1e-10,
+                static_below: 1e-6 * 60.0,
+                ..Default::default()
+            };
+            let spectrum =
+                twistmode_eigen::solve_near(&pencil, c64::new(60.0, 0.0), &opts).unwrap();
+            let rotation = ring.rotation().unwrap();
+            for pair in &spectrum.pairs {
+                for phi in [0.0, 0.7] {
+                    let later = system.field_at(&pair.vector, phi + 2.0 * std::f64::consts::PI);
+                    let turned = rotation.apply(&system.field_at(&pair.vector, phi));
+                    let scale: f64 = later.iter().map(|v| v.norm()).fold(0.0, f64::max);
+                    let err: f64 = later
+                        .iter()
+                        .zip(&turned)
+                        .map(|(a, b)| (a - b).norm())
+                        .fold(0.0, f64::max);
+                    assert!(
+                        err < 1e-10 * scale,
+                        "{half_turns} half turns, m = {centre}: {err:e}"
+                    );
+                }
+            }
+        }
+    }
+}
