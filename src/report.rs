@@ -122,7 +122,7 @@ pub fn modes_table(modes: &[ModeReport]) -> Table {
         let q_undetermined = m
             .flags
             .iter()
-            .any(|f| matches!(f, twistmode::analysis::Flag::PmlInsideCaustic { .. }));
+            .any(|f| matches!(f, twistmode_analysis::Flag::PmlInsideCaustic { .. }));
         let q = if q_undetermined {
             "n/d".to_string()
         } else {

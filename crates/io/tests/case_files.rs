@@ -558,6 +558,40 @@ fn twist_and_order_rules() {
         "symmetric under rotation by pi",
         "even body.half_turns",
     );
+    let auto = ring_with(&[
+        "body.half_turns=1",
+        "search.m=2.5",
+        "search.harmonics=\"auto\"",
+    ])
+    .unwrap();
+    assert_eq!(auto.search.max_harmonics, Some(10));
+    assert_eq!(auto.search.harmonics, 2);
+    assert_refused(
+        ring_with(&[
+            "body.half_turns=1",
+            "search.m=2.5",
+            "search.harmonics=\"many\"",
+        ]),
+        "search.harmonics",
+        "neither a whole number nor \"auto\"",
+        "\"auto\"",
+    );
+    assert_refused(
+        ring_with(&[
+            "body.half_turns=1",
+            "search.m=2.5",
+            "search.max_harmonics=6",
+        ]),
+        "search.max_harmonics",
+        "limits search.harmonics = \"auto\" only",
+        "set search.harmonics = \"auto\"",
+    );
+    assert_refused(
+        ring_with(&["search.harmonics=\"auto\""]),
+        "search.harmonics",
+        "twisted rings only",
+        "remove it",
+    );
     assert_refused(
         ring_with(&["search.tolerance=1e-6"]),
         "search.tolerance",

@@ -105,12 +105,20 @@ pub struct TwistSolverFacts {
     pub sectors: Vec<Option<i8>>,
     /// Unknowns of each sector's system.
     pub sector_unknowns: Vec<usize>,
+    /// The window half-width `K` each sector ended with.
+    pub sector_harmonics: Vec<u32>,
+    /// Why each sector's window stopped where it did (fixed, converged, at the limit).
+    pub harmonics_stop: Vec<String>,
     /// Coupling blocks `(l, k)` kept, diagonal ones included.
     pub couplings_kept: usize,
     /// Coupling blocks dropped as negligible.
     pub couplings_dropped: usize,
     /// Largest relative size of a dropped coupling harmonic.
     pub largest_dropped: f64,
+    /// Whether the pencils were made complex-symmetric with the section's mirror.
+    pub mirror_symmetric: bool,
+    /// With the mirror: the relative asymmetry removed by averaging (quadrature level).
+    pub asymmetry: f64,
 }
 
 /// One reported mode.

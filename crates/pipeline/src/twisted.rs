@@ -168,7 +168,130 @@ fn material_q(mesh: &twistmode_mesh::Mesh, energy: &EnergySummary) -> Option<f64
     (w.im > 1e-300 * w.re.abs()).then(|| w.re / w.im)
 }
 
-/// Runs a twisted-ring case.
+/// What one sector solve described: the kept modes with their fields at phi = 0, and
+/// how many pairs were dropped as PML and box modes.
+struct Described {
+    modes: Vec<(ModeReport, Vec<[Complex64; 3]>)>,
+    pml_dropped: usize,
+    box_dropped: usize,
+}
+
+/// What the description of every sector's modes reads.
+struct Describer<'a, 'm> {
+    case: &'a Case,
+    settings: &'a SolveSettings,
+    ring: &'a TwistedRing<'m>,
+    section: SectionFacts,
+    half_turns: i32,
+}
+
+impl Describer<'_, '_> {
+    /// Labels, flags, harmonic content and convergence of the pairs of `wide`, compared
+    /// with the narrower window `narrow`; PML and box modes dropped unless asked.
+    fn describe(&self, wide: &SectorSolve, narrow: &SectorSolve, k: u32) -> Described {
+        let (case, ring) = (self.case, self.ring);
+        let mesh = ring.problem().mesh();
+        let mut out = Described {
+            modes: Vec::new(),
+            pml_dropped: 0,
+            box_dropped: 0,
+        };
+        for pair in &wide.spectrum.pairs {
+            let fields = wide.system.harmonic_fields(&pair.vector);
+            let energies: Vec<EnergySummary> = fields
+                .iter()
+                .map(|f| {
+                    FieldEvaluator::from_full(ring.problem(), ring.numbering(), f.clone()).energy()
+                })
+                .collect();
+            let energy = summed_energy(mesh, &energies);
+            let pml_heavy = match verdict(case, self.settings, &energy) {
+                Verdict::Pml => {
+                    out.pml_dropped += 1;
+                    continue;
+                }
+                Verdict::Box => {
+                    out.box_dropped += 1;
+                    continue;
+                }
+                Verdict::Keep { pml_heavy } => pml_heavy,
+            };
+            let shares: Vec<f64> = energies.iter().map(|e| e.total).collect();
+            let total: f64 = shares.iter().sum();
+            let dominant = shares
+                .iter()
+                .enumerate()
+                .max_by(|a, b| a.1.total_cmp(b.1))
+                .map(|(b, _)| b)
+                .unwrap_or(0);
+            let order = wide.system.blocks[dominant].order;
+            let shape_field = FieldEvaluator::from_full(
+                ring.problem(),
+                ring.numbering(),
+                fields[dominant].clone(),
+            );
+            let mut report = report_mode(
+                case,
+                self.settings,
+                &self.section,
+                mesh,
+                ModeInputs {
+                    k0: k0_from_eigenvalue(pair.lambda),
+                    residual: pair.residual,
+                    energy: &energy,
+                    pml_heavy,
+                    order,
+                },
+                &shape_field,
+            );
+            let convergence = convergence_figure(&wide.system, pair, narrow);
+            match convergence {
+                Some(c) if c <= case.search.harmonic_tolerance => {}
+                _ => report.flags.push(Flag::HarmonicsUnconverged {
+                    change: convergence,
+                    tolerance: case.search.harmonic_tolerance,
+                }),
+            }
+            let sector = wide.system.sector;
+            if let Some(s) = sector {
+                report.label.push_str(if s > 0.0 { " s+" } else { " s-" });
+            }
+            report.twist = Some(TwistFacts {
+                half_turns: self.half_turns,
+                dominant_order: order,
+                sector: sector.map(|s| s as i8),
+                energy_per_harmonic: wide
+                    .system
+                    .blocks
+                    .iter()
+                    .zip(&shares)
+                    .map(|(b, e)| (b.order, if total > 0.0 { e / total } else { 0.0 }))
+                    .collect(),
+                harmonics: k,
+                convergence,
+                q_material: material_q(mesh, &energy),
+            });
+            // The field at phi = 0: the sum of the harmonics.
+            let at_zero = wide.system.field_at(&pair.vector, 0.0);
+            let nodal =
+                FieldEvaluator::from_full(ring.problem(), ring.numbering(), at_zero).nodal_values();
+            out.modes.push((report, nodal));
+        }
+        out
+    }
+}
+
+/// Whether a described mode's harmonic convergence figure meets the tolerance.
+fn converged(m: &ModeReport) -> bool {
+    !m.flags
+        .iter()
+        .any(|f| matches!(f, Flag::HarmonicsUnconverged { .. }))
+}
+
+/// Runs a twisted-ring case: for each physical sector, the window `K` (with `K - 1`
+/// for the convergence figure); with `search.harmonics = "auto"`, `K` grows from its
+/// start until the modes nearest the target meet `search.tolerance` or
+/// `search.max_harmonics` is reached.
 pub fn solve_twisted(
     case: &Case,
     settings: &SolveSettings,
@@ -187,13 +310,16 @@ pub fn solve_twisted(
     let setup = set_up(case, &mesh)?;
     let start = Instant::now();
     let ring = TwistedRing::try_new(&mesh, setup)?;
-    let k_max = case.search.harmonics;
+    let (k_start, k_last) = match case.search.max_harmonics {
+        Some(max) => (case.search.harmonics.min(max), max),
+        None => (case.search.harmonics, case.search.harmonics),
+    };
     stage(&format!(
         "assembling the harmonics of the medium ({} triangles, |j| <= {})",
         mesh_facts.triangles,
-        2 * k_max
+        2 * k_last
     ));
-    let parts = ring.assemble_parts(2 * k_max)?;
+    let parts = ring.assemble_parts(2 * k_last)?;
     let assembly_seconds = start.elapsed().as_secs_f64();
     let tau = ring.tau();
     let window = |k: u32| HarmonicWindow {
@@ -204,22 +330,30 @@ pub fn solve_twisted(
     let (re, im) = case.search.complex_k0();
     let target = Complex64::new(re, im);
     let sigma = target * target;
-    let drop_below = DROP_FRACTION * case.search.harmonic_tolerance;
     let sectors = physical_sectors(half_turns, centre.twice(), ring.rotation().is_some());
     let search = SectorSearch {
         ring: &ring,
         parts: &parts,
-        drop_below,
+        drop_below: DROP_FRACTION * case.search.harmonic_tolerance,
         sigma,
         count: pairs_for(case.search.count),
         tolerance: settings.tolerance,
     };
-    let section = SectionFacts::of(case, &mesh);
+    let describer = Describer {
+        case,
+        settings,
+        ring: &ring,
+        section: SectionFacts::of(case, &mesh),
+        half_turns,
+    };
+    let distance = |m: &ModeReport| (Complex64::new(m.k0[0], m.k0[1]) - target).norm();
     let mut out: Vec<(ModeReport, Vec<[Complex64; 3]>)> = Vec::new();
     let mut facts: Option<SolverFacts> = None;
     let (mut factor_seconds, mut iteration_seconds) = (0.0, 0.0);
     let mut dropped = (0usize, 0usize, 0usize);
     let mut sector_dims = Vec::new();
+    let mut windows = Vec::new();
+    let mut stops = Vec::new();
     for sector in &sectors {
         let sector_name = match sector {
             Some(s) if *s > 0.0 => "sector +1",
@@ -227,27 +361,57 @@ pub fn solve_twisted(
             None => "whole section",
         };
         stage(&format!(
-            "factorising and iterating, {sector_name}, K = {k_max} ({} harmonics)",
-            2 * k_max + 1
+            "factorising and iterating, {sector_name}, K = {}",
+            k_start.saturating_sub(1)
         ));
-        let wide = search.solve(window(k_max), *sector)?;
-        stage(&format!(
-            "convergence check, {sector_name}, K = {}",
-            k_max.saturating_sub(1)
-        ));
-        let narrow = search.solve(window(k_max.saturating_sub(1)), *sector)?;
-        factor_seconds += wide.seconds[1] + narrow.seconds[1];
-        iteration_seconds += wide.seconds[2] + narrow.seconds[2];
+        let mut narrow = search.solve(window(k_start.saturating_sub(1)), *sector)?;
+        factor_seconds += narrow.seconds[1];
+        iteration_seconds += narrow.seconds[2];
+        let mut k = k_start;
+        let (wide, described, stop) = loop {
+            stage(&format!(
+                "factorising and iterating, {sector_name}, K = {k} ({} harmonics)",
+                2 * k + 1
+            ));
+            let wide = search.solve(window(k), *sector)?;
+            factor_seconds += wide.seconds[1];
+            iteration_seconds += wide.seconds[2];
+            let mut described = describer.describe(&wide, &narrow, k);
+            described
+                .modes
+                .sort_by(|a, b| distance(&a.0).total_cmp(&distance(&b.0)));
+            let nearest_converged = described
+                .modes
+                .iter()
+                .take(case.search.count)
+                .all(|(m, _)| converged(m));
+            if case.search.max_harmonics.is_none() {
+                break (wide, described, "fixed (search.harmonics)");
+            }
+            if nearest_converged {
+                break (wide, described, "converged to search.tolerance");
+            }
+            if k >= k_last {
+                break (wide, described, "stopped at search.max_harmonics");
+            }
+            narrow = wide;
+            k += 1;
+        };
         sector_dims.push(wide.system.dim());
+        windows.push(k);
+        stops.push(stop.to_string());
+        dropped.0 += described.pml_dropped;
+        dropped.1 += described.box_dropped;
         dropped.2 += wide.spectrum.static_dropped;
-        let stats = &wide.spectrum.stats;
+        out.extend(described.modes);
         if facts.is_none() {
+            let stats = &wide.spectrum.stats;
             let summary = ring.numbering().summary();
             facts = Some(SolverFacts {
-                dofs_full: summary.full * window(k_max).len(),
+                dofs_full: summary.full * window(k).len(),
                 dofs: wide.system.dim(),
                 dofs_constrained: (summary.constrained_transverse + summary.constrained_third)
-                    * window(k_max).len(),
+                    * window(k).len(),
                 static_modes: 0,
                 pattern_nnz: stats.pattern_nnz,
                 fill_nnz: stats.fill_nnz,
@@ -267,110 +431,26 @@ pub fn solve_twisted(
                 shortfall: None,
                 twist: Some(TwistSolverFacts {
                     half_turns,
-                    harmonics: k_max,
+                    harmonics: k,
                     window_centre: centre.value(),
                     sectors: Vec::new(),
                     sector_unknowns: Vec::new(),
+                    sector_harmonics: Vec::new(),
+                    harmonics_stop: Vec::new(),
                     couplings_kept: wide.system.couplings.kept,
                     couplings_dropped: wide.system.couplings.dropped,
                     largest_dropped: wide.system.couplings.largest_dropped,
+                    mirror_symmetric: wide.system.mirror_signs.is_some(),
+                    asymmetry: wide.system.asymmetry,
                 }),
             });
-        }
-        for pair in &wide.spectrum.pairs {
-            let fields = wide.system.harmonic_fields(&pair.vector);
-            let energies: Vec<EnergySummary> = fields
-                .iter()
-                .map(|f| {
-                    FieldEvaluator::from_full(ring.problem(), ring.numbering(), f.clone()).energy()
-                })
-                .collect();
-            let energy = summed_energy(&mesh, &energies);
-            let pml_heavy = match verdict(case, settings, &energy) {
-                Verdict::Pml => {
-                    dropped.0 += 1;
-                    continue;
-                }
-                Verdict::Box => {
-                    dropped.1 += 1;
-                    continue;
-                }
-                Verdict::Keep { pml_heavy } => pml_heavy,
-            };
-            let shares: Vec<f64> = energies.iter().map(|e| e.total).collect();
-            let total: f64 = shares.iter().sum();
-            let dominant = shares
-                .iter()
-                .enumerate()
-                .max_by(|a, b| a.1.total_cmp(b.1))
-                .map(|(b, _)| b)
-                .unwrap_or(0);
-            let order = wide.system.blocks[dominant].order;
-            let k0 = k0_from_eigenvalue(pair.lambda);
-            let shape_field = FieldEvaluator::from_full(
-                ring.problem(),
-                ring.numbering(),
-                fields[dominant].clone(),
-            );
-            let mut report = report_mode(
-                case,
-                settings,
-                &section,
-                &mesh,
-                ModeInputs {
-                    k0,
-                    residual: pair.residual,
-                    energy: &energy,
-                    pml_heavy,
-                    order,
-                },
-                &shape_field,
-            );
-            let convergence = convergence_figure(&wide.system, pair, &narrow);
-            match convergence {
-                Some(c) if c <= case.search.harmonic_tolerance => {}
-                _ => report.flags.push(Flag::HarmonicsUnconverged {
-                    change: convergence,
-                    tolerance: case.search.harmonic_tolerance,
-                }),
-            }
-            if let Some(s) = sector {
-                report.label.push_str(if *s > 0.0 { " s+" } else { " s-" });
-            }
-            report.twist = Some(TwistFacts {
-                half_turns,
-                dominant_order: order,
-                sector: sector.map(|s| s as i8),
-                energy_per_harmonic: wide
-                    .system
-                    .blocks
-                    .iter()
-                    .zip(&shares)
-                    .map(|(b, e)| (b.order, if total > 0.0 { e / total } else { 0.0 }))
-                    .collect(),
-                harmonics: k_max,
-                convergence,
-                q_material: material_q(&mesh, &energy),
-            });
-            // The field at phi = 0: the sum of the harmonics.
-            let mut sum = vec![Complex64::new(0.0, 0.0); ring.full_len()];
-            for f in &fields {
-                for (s, x) in sum.iter_mut().zip(f) {
-                    *s += x;
-                }
-            }
-            let nodal =
-                FieldEvaluator::from_full(ring.problem(), ring.numbering(), sum).nodal_values();
-            out.push((report, nodal));
         }
     }
     // Keep the `count` nearest the target over all sectors.
-    out.sort_by(|a, b| {
-        let d = |m: &ModeReport| (Complex64::new(m.k0[0], m.k0[1]) - target).norm();
-        d(&a.0).total_cmp(&d(&b.0))
-    });
+    out.sort_by(|a, b| distance(&a.0).total_cmp(&distance(&b.0)));
     out.truncate(case.search.count);
     let (modes, nodal_fields) = in_frequency_order(out);
+    drop(describer);
     drop(ring);
     let mut solver =
         facts.ok_or_else(|| PipelineError::Unsupported("no sector to solve".into()))?;
@@ -382,6 +462,9 @@ pub fn solve_twisted(
     if let Some(t) = solver.twist.as_mut() {
         t.sectors = sectors.iter().map(|s| s.map(|s| s as i8)).collect();
         t.sector_unknowns = sector_dims;
+        t.harmonics = windows.iter().copied().max().unwrap_or(t.harmonics);
+        t.sector_harmonics = windows;
+        t.harmonics_stop = stops;
     }
     if modes.len() < case.search.count {
         solver.shortfall = Some(format!(

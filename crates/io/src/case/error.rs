@@ -103,7 +103,11 @@ pub(crate) const KEY_HELP: &[(&str, &str)] = &[
         "a string with a unit, e.g. \"1.55 um\" (nm, um, mm, m)",
     ),
     ("search.count", "a whole number >= 1"),
-    ("search.harmonics", "a whole number >= 0"),
+    ("search.harmonics", "a whole number >= 1, or \"auto\""),
+    (
+        "search.max_harmonics",
+        "a whole number >= 1: the largest window half-width \"auto\" may reach",
+    ),
     (
         "search.tolerance",
         "a number between 0 and 0.1: the relative change of k0 allowed when the harmonic window narrows",

@@ -38,6 +38,10 @@ pub const DEFAULT_LAYER_WAVELENGTHS: f64 = 0.5;
 pub const DEFAULT_COUNT: usize = 6;
 /// Default `search.tolerance`: relative change of `k0` between harmonic windows.
 pub const DEFAULT_HARMONIC_TOLERANCE: f64 = 1e-6;
+/// First K tried with `search.harmonics = "auto"`.
+pub const AUTO_FIRST_HARMONICS: u32 = 2;
+/// Default `search.max_harmonics` with `search.harmonics = "auto"`.
+pub const DEFAULT_MAX_HARMONICS: u32 = 10;
 /// Default `search.harmonics` for twisted rings.
 pub const DEFAULT_TWISTED_HARMONICS: u32 = 4;
 
@@ -208,8 +212,12 @@ pub struct Search {
     pub near_frequency: f64,
     /// How many modes to find.
     pub count: usize,
-    /// Fourier window half-width K for twisted rings (harmonics m + k tau, |k| <= K); 0 otherwise.
+    /// Fourier window half-width K for twisted rings (harmonics m + k tau, |k| <= K); 0
+    /// otherwise. With `search.harmonics = "auto"`, the first K tried.
     pub harmonics: u32,
+    /// With `search.harmonics = "auto"`: the largest K tried (`search.max_harmonics`);
+    /// `None` for a fixed K.
+    pub max_harmonics: Option<u32>,
     /// Expected quality factor of the resonances sought (`search.near_q`):
     /// with it the search is centred on the complex wavenumber
     /// `k0 (1 - i / (2 Q))` instead of the real `k0`; `None` searches near the real `k0`.

@@ -118,6 +118,14 @@ pub(crate) struct RawMesh {
     pub pi_symmetric: Option<bool>,
 }
 
+/// `search.harmonics`: a window half-width, or the word "auto".
+#[derive(Deserialize, Debug, Clone)]
+#[serde(untagged)]
+pub(crate) enum RawHarmonics {
+    Count(u32),
+    Word(String),
+}
+
 /// A value that should carry a unit; a bare number is caught to say so.
 #[derive(Deserialize, Debug, Clone)]
 #[serde(untagged)]
@@ -134,7 +142,8 @@ pub(crate) struct RawSearch {
     pub near_frequency: Option<RawQuantity>,
     pub near_wavelength: Option<RawQuantity>,
     pub count: Option<u32>,
-    pub harmonics: Option<u32>,
+    pub harmonics: Option<RawHarmonics>,
+    pub max_harmonics: Option<u32>,
     pub near_q: Option<f64>,
     pub tolerance: Option<f64>,
 }

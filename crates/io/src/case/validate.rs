@@ -887,6 +887,12 @@ fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Res
                 "applies to twisted rings only",
                 "remove it",
             )?;
+            refuse(
+                &s.max_harmonics,
+                "search.max_harmonics",
+                "applies to twisted rings only",
+                "remove it",
+            )?;
             let beta = s.beta.ok_or_else(|| {
                 missing(
                     "search.beta",
@@ -894,7 +900,7 @@ fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Res
                 )
             })?;
             let beta = finite("search.beta", beta)? / len.0.metres();
-            (ModeOrder::Propagation { beta }, 0)
+            (ModeOrder::Propagation { beta }, (0, None))
         }
         Body::Revolution | Body::Ring { .. } => {
             refuse(
@@ -919,7 +925,8 @@ fn search(s: &RawSearch, body: &Body, near_frequency: f64, len: &Lengths) -> Res
         order,
         near_frequency,
         count: count as usize,
-        harmonics,
+        harmonics: harmonics.0,
+        max_harmonics: harmonics.1,
         near_q: near_q(s)?,
         harmonic_tolerance: harmonic_tolerance(s, body)?,
     })
@@ -996,8 +1003,54 @@ fn azimuthal_order(m: f64, body: &Body) -> Result<AzimuthalOrder> {
     Ok(order)
 }
 
-fn harmonics(s: &RawSearch, body: &Body) -> Result<u32> {
-    match (body, s.harmonics) {
+/// `search.harmonics` (a count, or "auto") and `search.max_harmonics`:
+/// `(first K, largest K for auto)`.
+fn harmonics(s: &RawSearch, body: &Body) -> Result<(u32, Option<u32>)> {
+    let twisted = body.is_twisted_ring();
+    if !twisted {
+        refuse(
+            &s.max_harmonics,
+            "search.max_harmonics",
+            "applies to twisted rings with search.harmonics = \"auto\" only",
+            "remove it",
+        )?;
+    }
+    let count = match &s.harmonics {
+        None => None,
+        Some(RawHarmonics::Count(k)) => Some(*k),
+        Some(RawHarmonics::Word(w)) if w == "auto" => {
+            if !twisted {
+                return Err(CaseError::new(
+                    "search.harmonics",
+                    "search.harmonics = \"auto\" applies to twisted rings only",
+                    "remove it",
+                ));
+            }
+            let max = s.max_harmonics.unwrap_or(DEFAULT_MAX_HARMONICS);
+            if max < 1 {
+                return Err(CaseError::new(
+                    "search.max_harmonics",
+                    "search.max_harmonics = 0 leaves no window to try",
+                    format!("use at least 1 (default {DEFAULT_MAX_HARMONICS})"),
+                ));
+            }
+            return Ok((AUTO_FIRST_HARMONICS.min(max), Some(max)));
+        }
+        Some(RawHarmonics::Word(w)) => {
+            return Err(CaseError::new(
+                "search.harmonics",
+                format!("search.harmonics = \"{w}\" is neither a whole number nor \"auto\""),
+                "give a window half-width such as 4, or \"auto\" to raise it until search.tolerance is met",
+            ))
+        }
+    };
+    refuse(
+        &s.max_harmonics,
+        "search.max_harmonics",
+        "limits search.harmonics = \"auto\" only",
+        "set search.harmonics = \"auto\", or remove it",
+    )?;
+    let k = match (body, count) {
         (Body::Revolution, Some(_)) => Err(CaseError::new(
             "search.harmonics",
             "search.harmonics applies to twisted rings only; a body of revolution needs one harmonic",
@@ -1015,7 +1068,8 @@ fn harmonics(s: &RawSearch, body: &Body) -> Result<u32> {
         )),
         (Body::Ring { half_turns, .. }, None) if *half_turns != 0 => Ok(DEFAULT_TWISTED_HARMONICS),
         (_, k) => Ok(k.unwrap_or(0)),
-    }
+    }?;
+    Ok((k, None))
 }
 
 /// Checks that need the body, the section and the surroundings together.
