@@ -450,7 +450,6 @@ pub fn solve_twisted(
     out.sort_by(|a, b| distance(&a.0).total_cmp(&distance(&b.0)));
     out.truncate(case.search.count);
     let (modes, nodal_fields) = in_frequency_order(out);
-    drop(describer);
     drop(ring);
     let mut solver =
         facts.ok_or_else(|| PipelineError::Unsupported("no sector to solve".into()))?;
