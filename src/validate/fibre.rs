@@ -389,8 +389,9 @@ pub fn run(level: Level) -> Result<Vec<Check>, ValidateError> {
 }
 
 /// The single-mode fibre twisted at `alpha = 1e-4 beta`: in the turning frame
-/// `beta' = beta_lab + nu alpha` (formulation note sec. 7: a change of
-/// frame), so at fixed `beta'` the HE_11 pair splits into the lab modes with
+/// `beta' = beta_lab + nu alpha` (a change of frame to helicoidal coordinates,
+/// derived in docs/theory.md; as in Nicolet et al., "Modelling of twisted optical
+/// waveguides with edge elements", Eur. Phys. J. Appl. Phys. 28 (2004)), so at fixed `beta'` the HE_11 pair splits into the lab modes with
 /// `beta_lab = beta' -+ alpha` (`nu = +-1`).
 fn twisted_fibre(knobs: MeshKnobs, tolerance: f64) -> Result<Vec<Check>, ValidateError> {
     let fibre = SINGLE_MODE;
@@ -427,7 +428,7 @@ fn twisted_fibre(knobs: MeshKnobs, tolerance: f64) -> Result<Vec<Check>, Validat
             beta / k0_exact,
             tolerance,
             format!(
-                "formulation note sec. 7 (beta' = beta_lab + nu alpha, a change of frame); {FIBRE_SOURCE}"
+                "change of frame to helicoidal coordinates (beta' = beta_lab + nu alpha; docs/theory.md); {FIBRE_SOURCE}"
             ),
             solved.dofs,
             solved.seconds,
@@ -630,7 +631,7 @@ fn bent_fibre(level: Level) -> Result<Vec<Check>, ValidateError> {
         Level::Full => (&[10.0, 20.0, 40.0, 80.0, 160.0], 16.0),
     };
     let errors = bent_fibre_errors(radii, resolution)?;
-    let source = "large-radius limit of a ring (formulation note sec. 7); exact HE11 index: \
+    let source = "large-radius limit of a ring (a bend of radius R -> infinity is straight); exact HE11 index: \
                   Snyder & Love ch. 12, twistmode_reference::fibre (mpmath fixtures)";
     let mut checks = Vec::new();
     for w in errors.windows(2) {

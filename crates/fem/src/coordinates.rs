@@ -329,7 +329,8 @@ mod tests {
 
     #[test]
     fn revolution_gives_diag_r_r_inverse_r_up_to_sign() {
-        // Source: formulation note, sec. 2 anchor: eps * diag(r, r, 1/r), overall
+        // Source: transformation optics (Ward & Pendry, J. Mod. Opt. 43, 1996, from
+        // memory): cylindrical coordinates give eps * diag(r, r, 1/r), overall
         // sign -1 because (r, z, phi) is left-handed (det J = -r).
         let eps = c64::new(2.25, 0.01);
         let map = CoordinateMap {
@@ -353,7 +354,8 @@ mod tests {
 
     #[test]
     fn twisted_straight_guide_gives_the_helicoidal_tensor() {
-        // Source: formulation note, sec. 2 anchor (helicoidal coordinates).
+        // Source: helicoidal coordinates (Nicolet et al., "Modelling of twisted optical
+        // waveguides with edge elements", Eur. Phys. J. Appl. Phys. 28, 2004).
         let a = 3.7;
         let (u, v) = (0.21, -0.4);
         let eps = 3.1;
@@ -402,7 +404,8 @@ mod tests {
 
     #[test]
     fn twisted_ring_matches_the_fourier_structure_of_the_note() {
-        // Source: formulation note, sec. 2: eps_hat = A r + B / r with
+        // Source: the metric of the rotating frame (docs/theory.md sec. 10.1):
+        // eps_hat = A r + B / r with
         // r = R + U cos(tau phi) - V sin(tau phi). Check r through det J = -r.
         let (radius, half_turns) = (5.0, 3.0);
         let map = CoordinateMap {

@@ -17,8 +17,8 @@ fn physical_eigenvalues(mesh: &Mesh, setup: SectionSetup, m: f64, scale: f64) ->
 
 #[test]
 fn untwisted_ring_equals_revolution_with_the_section_at_distance_r() {
-    // Source: formulation note, sec. 1 (ring with half_turns = 0 must agree with
-    // revolution); exact identity of the maps, so agreement to round-off.
+    // Source: a ring with half_turns = 0 is a body of revolution with its section at
+    // distance R (exact identity of the maps), so agreement to round-off.
     let (radius, w, h) = (30e-3, 8e-3, 5e-3);
     let ring_mesh = support::rectangle(
         [-w / 2.0, w / 2.0, -h / 2.0, h / 2.0],
@@ -68,7 +68,7 @@ fn untwisted_ring_equals_revolution_with_the_section_at_distance_r() {
 
 #[test]
 fn twisted_circular_metal_guide_shifts_beta_by_the_angular_order() {
-    // Source: formulation note, sec. 7 — twisting a circular guide is a change of
+    // Source: change of frame (helicoidal coordinates; docs/theory.md) — twisting a circular guide is a change of
     // frame, beta_twisted = beta_lab + nu alpha; here for the hollow metal guide
     // (TE_11 cutoff k_c a = j'_11 = 1.841183781340659, TM_01: j_01 =
     // 2.404825557695773, A&S Table 9.5, from memory): for fixed beta' in the
