@@ -229,3 +229,44 @@ fn a_band_that_follows_its_twist_converges_geometrically_in_the_harmonics() {
         }
     }
 }
+
+#[test]
+fn a_slowly_twisted_band_shifts_its_odd_families_by_half_a_range() {
+    // Adiabatic (geometric-phase) estimate for a band that turns slowly compared with
+    // the wave (common practice for polarisation that follows a slowly turning frame;
+    // stated from memory, no published table): the families odd under the rotation by
+    // pi sit at half-integer orders, at the untwisted band's frequency for that order,
+    // half a free spectral range from the integer orders. The correction
+    // |k0_twisted(n) - k0_untwisted(n)| / FSR must fall as the twist per wavelength
+    // falls: here the radius doubles at fixed section and frequency.
+    let mut corrections = Vec::new();
+    for (radius, n) in [("12.0", 25.5), ("24.0", 51.5), ("48.0", 103.5)] {
+        let centre = n.to_string();
+        let c = case(
+            RIBBON,
+            &[
+                ("body.radius", radius),
+                ("search.m", &centre),
+                ("search.harmonics", "2"),
+            ],
+        );
+        let flat = untwisted(&c, n, 1)[0];
+        let next = untwisted(&c, n + 1.0, 1)[0];
+        let fsr = (next - flat).norm();
+        let found = twisted(&c, n, 2, -1.0, 3);
+        let near = found
+            .iter()
+            .min_by(|a, b| (*a - flat).norm().total_cmp(&(*b - flat).norm()))
+            .unwrap();
+        let correction = (near - flat).norm() / fsr;
+        println!(
+            "R = {radius} mm, n = {n}: k0 untwisted {:.6}, twisted {:.6}, FSR {fsr:.4} 1/m: correction {correction:.3e} FSR",
+            flat.re, near.re
+        );
+        corrections.push(correction);
+    }
+    assert!(
+        corrections.windows(2).all(|w| w[1] < 0.6 * w[0]),
+        "{corrections:?}"
+    );
+}
