@@ -270,3 +270,68 @@ fn a_slowly_twisted_band_shifts_its_odd_families_by_half_a_range() {
         "{corrections:?}"
     );
 }
+
+/// `k0` of the modes of a pipeline solve, by frequency.
+fn solved_k0(c: &Case) -> Vec<c64> {
+    let outcome = solve_case(c, &SolveSettings::default()).unwrap();
+    outcome
+        .modes
+        .iter()
+        .map(|m| c64::new(m.k0[0], m.k0[1]))
+        .collect()
+}
+
+#[test]
+fn the_mirror_image_band_and_the_turned_section_have_the_same_spectrum() {
+    // -N half turns is the mirror image of +N (Maxwell's equations keep their form
+    // under a reflection in these isotropic media). In the code the -N system, with its
+    // harmonics relabelled k -> -k, is the transpose of the +N one with the third
+    // component's sign flipped (docs/theory.md sec. 10.5): the same eigenvalues, to
+    // solver precision, on any mesh.
+    for n in [1, 2, 3] {
+        let centre = if n % 2 == 0 { "25" } else { "25.5" };
+        let plus = case(
+            RIBBON,
+            &[
+                ("body.half_turns", &n.to_string()),
+                ("search.m", centre),
+                ("search.harmonics", "2"),
+            ],
+        );
+        let minus = case(
+            RIBBON,
+            &[
+                ("body.half_turns", &(-n).to_string()),
+                ("search.m", centre),
+                ("search.harmonics", "2"),
+            ],
+        );
+        let (a, b) = (solved_k0(&plus), solved_k0(&minus));
+        assert_eq!(a.len(), b.len());
+        for (x, y) in a.iter().zip(&b) {
+            let d = (x - y).norm() / x.norm();
+            println!("{n} and -{n} half turns: k0 {x:.9} vs {y:.9}: {d:.1e}");
+            assert!(d < 1e-11, "{x} vs {y}");
+        }
+    }
+    // A pi-symmetric section given turned by pi is the same section: an odd band built
+    // on it is the same band (the hexagon's vertices listed from the opposite corner).
+    let hexagon = |vertices: &str| {
+        let text = RIBBON.replace(
+            "shape = \"rectangle\"\nwidth = 3.0\nthickness = 1.0\n",
+            &format!("shape = \"polygon\"\nvertices = {vertices}\n"),
+        );
+        case(&text, &[("search.harmonics", "2")])
+    };
+    let a = solved_k0(&hexagon(
+        "[[1.5, 0.0], [0.9, 0.6], [-0.9, 0.6], [-1.5, 0.0], [-0.9, -0.6], [0.9, -0.6]]",
+    ));
+    let b = solved_k0(&hexagon(
+        "[[-1.5, 0.0], [-0.9, -0.6], [0.9, -0.6], [1.5, 0.0], [0.9, 0.6], [-0.9, 0.6]]",
+    ));
+    assert!(!a.is_empty() && a.len() == b.len());
+    for (x, y) in a.iter().zip(&b) {
+        println!("hexagon and the hexagon turned by pi, one half turn: k0 {x:.9} vs {y:.9}");
+        assert!((x - y).norm() < 1e-12 * x.norm());
+    }
+}
