@@ -129,8 +129,8 @@ fn solve_and_write(
             println!("note: {note}");
         }
         println!(
-            "time: mesh {:.2} s, assembly {:.2} s, factorisation {:.2} s, iterations {:.2} s",
-            outcome.mesh_facts.seconds, s.assembly_seconds, s.factor_seconds, s.iteration_seconds
+            "time: mesh {:.2} s, assembly {:.2} s, factorisation {:.2} s, iterations {:.2} s ({} operator applications)",
+            outcome.mesh_facts.seconds, s.assembly_seconds, s.factor_seconds, s.iteration_seconds, s.operator_applications
         );
         println!();
         print!("{}", modes_table(&outcome.modes).to_text());

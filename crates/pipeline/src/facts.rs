@@ -85,6 +85,8 @@ pub struct SolverFacts {
     pub factor_seconds: f64,
     /// Seconds in Krylov-Schur iterations.
     pub iteration_seconds: f64,
+    /// Applications of the shift-invert operator (one pair of triangular solves each).
+    pub operator_applications: usize,
     /// Why fewer modes than asked for were reported, when that happens.
     pub shortfall: Option<String>,
     /// Twisted rings: the harmonic window, sectors and coupling blocks.

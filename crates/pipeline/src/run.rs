@@ -59,9 +59,11 @@ pub(crate) fn solve_once(
     let mut ask = pairs_for(case.search.count);
     let mut tries = 0;
     let mut iteration_seconds = 0.0;
+    let mut applications = 0;
     let mut described = None;
     let spectrum = find_pairs(case, &system, settings.tolerance, ask, |spectrum| {
         iteration_seconds += spectrum.stats.iteration_seconds;
+        applications += spectrum.stats.operator_applications;
         let summary = system.summary();
         let mut solver = SolverFacts {
             dofs_full: summary.full,
@@ -85,6 +87,7 @@ pub(crate) fn solve_once(
             // One analysis and factorisation serve every try.
             factor_seconds: spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
             iteration_seconds,
+            operator_applications: applications,
             shortfall: None,
             twist: None,
         };

@@ -57,6 +57,7 @@ struct SectorSolve {
     system: BlockSystem,
     spectrum: Spectrum,
     seconds: [f64; 3],
+    applications: usize,
 }
 
 /// What every sector solve of one case shares.
@@ -95,6 +96,7 @@ impl SectorSearch<'_, '_> {
                 spectrum.stats.analysis_seconds + spectrum.stats.factor_seconds,
                 spectrum.stats.iteration_seconds,
             ],
+            applications: spectrum.stats.operator_applications,
             system,
             spectrum,
         })
@@ -349,7 +351,7 @@ pub fn solve_twisted(
     let distance = |m: &ModeReport| (Complex64::new(m.k0[0], m.k0[1]) - target).norm();
     let mut out: Vec<(ModeReport, Vec<[Complex64; 3]>)> = Vec::new();
     let mut facts: Option<SolverFacts> = None;
-    let (mut factor_seconds, mut iteration_seconds) = (0.0, 0.0);
+    let (mut factor_seconds, mut iteration_seconds, mut applications) = (0.0, 0.0, 0);
     let mut dropped = (0usize, 0usize, 0usize);
     let mut sector_dims = Vec::new();
     let mut windows = Vec::new();
@@ -367,6 +369,7 @@ pub fn solve_twisted(
         let mut narrow = search.solve(window(k_start.saturating_sub(1)), *sector)?;
         factor_seconds += narrow.seconds[1];
         iteration_seconds += narrow.seconds[2];
+        applications += narrow.applications;
         let mut k = k_start;
         let (wide, described, stop) = loop {
             stage(&format!(
@@ -376,6 +379,7 @@ pub fn solve_twisted(
             let wide = search.solve(window(k), *sector)?;
             factor_seconds += wide.seconds[1];
             iteration_seconds += wide.seconds[2];
+            applications += wide.applications;
             let mut described = describer.describe(&wide, &narrow, k);
             described
                 .modes
@@ -428,6 +432,7 @@ pub fn solve_twisted(
                 assembly_seconds,
                 factor_seconds: 0.0,
                 iteration_seconds: 0.0,
+                operator_applications: 0,
                 shortfall: None,
                 twist: Some(TwistSolverFacts {
                     half_turns,
@@ -455,6 +460,7 @@ pub fn solve_twisted(
         facts.ok_or_else(|| PipelineError::Unsupported("no sector to solve".into()))?;
     solver.factor_seconds = factor_seconds;
     solver.iteration_seconds = iteration_seconds;
+    solver.operator_applications = applications;
     solver.pml_dropped = dropped.0;
     solver.box_dropped = dropped.1;
     solver.static_dropped = dropped.2;
