@@ -93,6 +93,40 @@ pub struct SolveArgs {
     /// Do not draw field maps.
     #[arg(long)]
     pub no_plots: bool,
+    /// Memory a factorisation may take, e.g. `4GB`, `512MiB` (default: 80 % of the
+    /// available memory); a larger case is refused before anything is allocated.
+    #[arg(long, value_name = "SIZE", value_parser = parse_size)]
+    pub max_memory: Option<u64>,
+}
+
+/// A size in bytes: a number with an optional unit (B, kB, MB, GB, KiB, MiB, GiB).
+fn parse_size(text: &str) -> Result<u64, String> {
+    let t = text.trim();
+    let split = t
+        .find(|c: char| !(c.is_ascii_digit() || c == '.'))
+        .unwrap_or(t.len());
+    let (number, unit) = t.split_at(split);
+    let value: f64 = number
+        .parse()
+        .map_err(|_| format!("'{text}' is not a size; write e.g. 4GB or 512MiB"))?;
+    let scale = match unit.trim() {
+        "" | "B" => 1.0,
+        "kB" | "KB" => 1e3,
+        "MB" => 1e6,
+        "GB" => 1e9,
+        "KiB" => 1024.0,
+        "MiB" => 1024.0 * 1024.0,
+        "GiB" => 1024.0 * 1024.0 * 1024.0,
+        other => {
+            return Err(format!(
+                "unknown size unit '{other}' in '{text}'; use B, kB, MB, GB, KiB, MiB or GiB"
+            ))
+        }
+    };
+    if !(value.is_finite() && value > 0.0) {
+        return Err(format!("'{text}' must be a positive size"));
+    }
+    Ok((value * scale) as u64)
 }
 
 /// Options of `demo`.

@@ -147,6 +147,7 @@ fn solve(args: &SolveArgs) -> Result<()> {
     let settings = SolveSettings {
         tolerance: args.tolerance,
         keep_all: args.all,
+        max_memory: args.max_memory,
         ..SolveSettings::default()
     };
     solve_and_write(

@@ -23,6 +23,17 @@ pub enum PipelineError {
     /// A result file could not be written.
     #[error("output: {0}")]
     Output(#[from] twistmode_io::output::OutputError),
+    /// The solve would need more memory than the budget allows (estimated before
+    /// allocating).
+    #[error("{message}")]
+    TooLarge {
+        /// Estimated bytes.
+        needed: u64,
+        /// The budget, bytes.
+        limit: u64,
+        /// What, how much, and what to change.
+        message: String,
+    },
     /// A validation or sweep run could not produce what it compares.
     #[error("{0}")]
     Incomplete(String),

@@ -18,6 +18,8 @@ pub struct SolveSettings {
     pub max_pml_fraction: f64,
     /// Largest Q a PML is trusted to resolve.
     pub q_limit: f64,
+    /// Memory a factorisation may take, bytes (`None`: 80 % of the available memory).
+    pub max_memory: Option<u64>,
 }
 
 impl Default for SolveSettings {
@@ -28,6 +30,7 @@ impl Default for SolveSettings {
             min_confinement: 0.05,
             max_pml_fraction: 0.2,
             q_limit: 1e6,
+            max_memory: None,
         }
     }
 }

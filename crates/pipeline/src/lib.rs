@@ -18,6 +18,7 @@
 //! parameter is read once from the case and passed down as a typed value.
 #![deny(missing_docs)]
 
+pub mod budget;
 pub mod checks;
 pub mod describe;
 mod error;

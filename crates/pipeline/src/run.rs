@@ -61,7 +61,8 @@ pub(crate) fn solve_once(
     let mut iteration_seconds = 0.0;
     let mut applications = 0;
     let mut described = None;
-    let spectrum = find_pairs(case, &system, settings.tolerance, ask, |spectrum| {
+    let budget = crate::budget::Budget::new(settings.max_memory);
+    let spectrum = find_pairs(case, &system, settings.tolerance, ask, budget, |spectrum| {
         iteration_seconds += spectrum.stats.iteration_seconds;
         applications += spectrum.stats.operator_applications;
         let summary = system.summary();

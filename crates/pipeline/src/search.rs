@@ -26,6 +26,7 @@ pub fn find_eigenpairs(
         system,
         tolerance,
         pairs_for(case.search.count),
+        crate::budget::Budget::new(None),
         |_| None,
     )
 }
@@ -37,6 +38,7 @@ pub(crate) fn find_pairs(
     system: &AssembledSystem,
     tolerance: f64,
     count: usize,
+    budget: crate::budget::Budget,
     more: impl FnMut(&Spectrum) -> Option<usize>,
 ) -> Result<Spectrum, PipelineError> {
     // Real shift `k0^2`, or `(k0 (1 - i / (2 Q)))^2` with `search.near_q`:
@@ -48,6 +50,11 @@ pub(crate) fn find_pairs(
     // lets the eigen crate use its symmetric factorisation.
     let (k, m) = system.symmetric_form();
     let pencil = Pencil::try_new(k, m)?;
+    crate::budget::check(
+        &pencil,
+        budget,
+        "reduce mesh.resolution or surroundings.padding",
+    )?;
     let opts = SolveOptions {
         count: count.min(system.stiffness.nrows()),
         tol: tolerance,

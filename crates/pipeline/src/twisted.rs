@@ -68,6 +68,7 @@ struct SectorSearch<'a, 'm> {
     sigma: Complex64,
     count: usize,
     tolerance: f64,
+    budget: crate::budget::Budget,
 }
 
 impl SectorSearch<'_, '_> {
@@ -83,6 +84,17 @@ impl SectorSearch<'_, '_> {
             .block_system(self.parts, window, sector, self.drop_below, false)?;
         let assembled = start.elapsed().as_secs_f64();
         let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
+        crate::budget::check(
+            &pencil,
+            self.budget,
+            &format!(
+                "with K = {} ({} harmonics, {} unknowns): reduce search.harmonics (or \
+                 search.max_harmonics), mesh.resolution or surroundings.padding",
+                window.half_width,
+                window.len(),
+                pencil.dim()
+            ),
+        )?;
         let opts = SolveOptions {
             count: self.count.min(pencil.dim()),
             tol: self.tolerance,
@@ -340,6 +352,7 @@ pub fn solve_twisted(
         sigma,
         count: pairs_for(case.search.count),
         tolerance: settings.tolerance,
+        budget: crate::budget::Budget::new(settings.max_memory),
     };
     let describer = Describer {
         case,
@@ -371,12 +384,27 @@ pub fn solve_twisted(
         iteration_seconds += narrow.seconds[2];
         applications += narrow.applications;
         let mut k = k_start;
+        // With "auto", the description of the last window (now `narrow`), in case the
+        // next window does not fit.
+        let mut last: Option<Described> = None;
         let (wide, described, stop) = loop {
             stage(&format!(
                 "factorising and iterating, {sector_name}, K = {k} ({} harmonics)",
                 2 * k + 1
             ));
-            let wide = search.solve(window(k), *sector)?;
+            let wide = match search.solve(window(k), *sector) {
+                Ok(w) => w,
+                Err(PipelineError::TooLarge { .. }) if last.is_some() => {
+                    let d = last.take().expect("checked");
+                    k -= 1;
+                    break (
+                        narrow,
+                        d,
+                        "stopped: the next window would exceed the memory budget",
+                    );
+                }
+                Err(e) => return Err(e),
+            };
             factor_seconds += wide.seconds[1];
             iteration_seconds += wide.seconds[2];
             applications += wide.applications;
@@ -398,7 +426,9 @@ pub fn solve_twisted(
             if k >= k_last {
                 break (wide, described, "stopped at search.max_harmonics");
             }
+            // The next window compares with this one; keep this one's description.
             narrow = wide;
+            last = Some(described);
             k += 1;
         };
         sector_dims.push(wide.system.dim());
