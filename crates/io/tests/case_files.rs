@@ -593,6 +593,15 @@ fn twist_and_order_rules() {
         "remove it",
     );
     assert_refused(
+        ring_with(&[
+            "body.half_turns=2",
+            "materials.k38.epsilon=[[38, 0, 0], [0, 38, 0], [0, 0, 30]]",
+        ]),
+        "materials.k38.epsilon",
+        "the ring twists",
+        "isotropic value",
+    );
+    assert_refused(
         ring_with(&["search.tolerance=1e-6"]),
         "search.tolerance",
         "twisted rings",

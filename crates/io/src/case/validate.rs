@@ -449,6 +449,13 @@ fn material_tensor(key: &str, raw: &RawMaterialValue, body: &Body) -> Result<Ten
     let same = |a: Complex64, b: Complex64| (a - b).norm() <= 1e-12 * scale;
     let zero = Complex64::new(0.0, 0.0);
     match body {
+        Body::Ring { half_turns, .. } if *half_turns != 0 && t != scalar_tensor(t[0][0]) => {
+            return Err(CaseError::new(
+                key,
+                format!("{key} is anisotropic, but the ring twists (body.half_turns = {half_turns}): a tensor fixed in the laboratory frame turns against the section, which this version does not model"),
+                "give an isotropic value (a number, or [re, im]), or set body.half_turns = 0",
+            ));
+        }
         Body::Revolution | Body::Ring { .. } => {
             let invariant = same(t[0][2], zero)
                 && same(t[1][2], zero)
