@@ -25,8 +25,12 @@
 #![deny(missing_docs)]
 
 mod error;
+mod extent;
 pub mod generate;
 mod gmsh;
+pub mod locate;
+pub mod map;
+pub mod polygon;
 mod topology;
 mod transform;
 
@@ -35,6 +39,9 @@ pub use gmsh::{parse_gmsh, read_gmsh, write_gmsh, write_gmsh_string};
 
 pub use error::MeshError;
 pub use generate::{BodySpec, GeneratorSpec, SectionShape, Surroundings};
+pub use locate::{Location, PointLocator};
+pub use map::{BoundingBox, MapPoint, ShapeFunctions, TriangleMap};
+pub use polygon::{check_polygon, Orientation, PolygonDefect};
 
 use std::fmt;
 
@@ -317,7 +324,7 @@ impl Mesh {
     }
     /// Area of triangle `t` (see [`Mesh::area`]).
     pub fn triangle_area(&self, t: usize) -> f64 {
-        topology::triangle_area(&self.triangle_points(t))
+        self.triangle_map(t).area()
     }
     /// Mesh quality figures.
     pub fn quality(&self) -> Quality {
