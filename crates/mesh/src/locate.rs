@@ -26,6 +26,9 @@ pub const INSIDE_TOL: f64 = 1e-10;
 /// physical distance [`INSIDE_TOL`] stands for).
 const BOX_PAD: f64 = 1e-8;
 
+/// Grid cells per indexed triangle.
+const CELLS_PER_TRIANGLE: f64 = 2.0;
+
 /// Where a point lies: the triangle and the point's reference coordinates in it.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Location {
@@ -146,7 +149,7 @@ impl PointLocator {
         };
         // About one cell per triangle, square cells, at least one per axis.
         let [w, h] = grid_box.size();
-        let side = (w * h / entries.len() as f64).sqrt();
+        let side = (w * h / (CELLS_PER_TRIANGLE * entries.len() as f64)).sqrt();
         let count = |extent: f64| ((extent / side).ceil() as usize).clamp(1, 1 << 14);
         let cells = [count(w), count(h)];
         let cell_size = [w / cells[0] as f64, h / cells[1] as f64];
