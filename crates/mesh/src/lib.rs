@@ -21,6 +21,12 @@
 //!        0--3---1
 //! ```
 //!
+//! Geometry of the section lives here too: [`TriangleMap`] is the one map
+//! from the reference triangle (used by the finite elements, the plots and
+//! point location), [`PointLocator`] finds the triangle holding a point,
+//! [`Mesh::bounding_box`] and friends give exact boxes, and
+//! [`polygon::check_polygon`] checks polygon outlines.
+//!
 //! Lengths are SI metres throughout.
 #![deny(missing_docs)]
 
