@@ -896,3 +896,52 @@ proptest! {
         let _ = Case::from_toml_str(&text, &[]);
     }
 }
+
+/// The polygon refusals, word for word: key, problem and fix.
+#[test]
+fn polygon_outlines_are_refused_word_for_word() {
+    let text = RING.replace(
+        "shape = \"rectangle\"\nwidth = 8.0\nthickness = 3.0\n",
+        "shape = \"polygon\"\n",
+    );
+    let refusal = |vertices: &str| {
+        let set = twistmode_io::case::parse_set_argument(&format!("section.vertices={vertices}"))
+            .unwrap();
+        let e = Case::from_toml_str(&text, &[set]).expect_err("should be refused");
+        assert_eq!(e.key, "section.vertices");
+        (e.message, e.fix)
+    };
+    let crossing = |i: usize, j: usize| {
+        (
+            format!(
+                "the polygon's sides {i} and {j} cross or touch (sides counted from 0; \
+                 side k joins vertices k and k+1)"
+            ),
+            "list the vertices in order around the outline, without repeating the first one at the end"
+                .to_string(),
+        )
+    };
+    let zero_area = (
+        "the polygon has zero area".to_string(),
+        "give vertices that enclose a region".to_string(),
+    );
+    assert_eq!(
+        refusal("[[0, 0], [1, 0]]"),
+        (
+            "a polygon needs at least 3 vertices, got 2".to_string(),
+            "list the outline's corners in order".to_string()
+        )
+    );
+    // Collinear vertices, and a symmetric bow tie (its halves cancel).
+    assert_eq!(refusal("[[0, 0], [1, 0], [2, 0]]"), zero_area);
+    assert_eq!(refusal("[[0, 0], [1, 1], [1, 0], [0, 1]]"), zero_area);
+    // A lopsided bow tie: sides 0 and 2 cross.
+    assert_eq!(refusal("[[0, 0], [2, 2], [2, 0], [0, 1]]"), crossing(0, 2));
+    // The first vertex repeated at the end: sides 2 and 0 meet at the repeat.
+    assert_eq!(refusal("[[0, 0], [1, 0], [0, 1], [0, 0]]"), crossing(0, 2));
+    // A spike folding back along side 1: vertex 3 lies on side 1.
+    assert_eq!(
+        refusal("[[0, 0], [2, 0], [2, 2], [2, 1], [0, 2]]"),
+        crossing(1, 3)
+    );
+}

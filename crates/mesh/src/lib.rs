@@ -21,12 +21,22 @@
 //!        0--3---1
 //! ```
 //!
+//! Geometry of the section lives here too: [`TriangleMap`] is the one map
+//! from the reference triangle (used by the finite elements, the plots and
+//! point location), [`PointLocator`] finds the triangle holding a point,
+//! [`Mesh::bounding_box`] and friends give exact boxes, and
+//! [`polygon::check_polygon`] checks polygon outlines.
+//!
 //! Lengths are SI metres throughout.
 #![deny(missing_docs)]
 
 mod error;
+mod extent;
 pub mod generate;
 mod gmsh;
+pub mod locate;
+pub mod map;
+pub mod polygon;
 mod topology;
 mod transform;
 
@@ -35,6 +45,9 @@ pub use gmsh::{parse_gmsh, read_gmsh, write_gmsh, write_gmsh_string};
 
 pub use error::MeshError;
 pub use generate::{BodySpec, GeneratorSpec, SectionShape, Surroundings};
+pub use locate::{Location, PointLocator};
+pub use map::{BoundingBox, MapPoint, ShapeFunctions, TriangleMap};
+pub use polygon::{check_polygon, Orientation, PolygonDefect};
 
 use std::fmt;
 
@@ -317,7 +330,7 @@ impl Mesh {
     }
     /// Area of triangle `t` (see [`Mesh::area`]).
     pub fn triangle_area(&self, t: usize) -> f64 {
-        topology::triangle_area(&self.triangle_points(t))
+        self.triangle_map(t).area()
     }
     /// Mesh quality figures.
     pub fn quality(&self) -> Quality {

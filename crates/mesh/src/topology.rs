@@ -1,6 +1,7 @@
 //! Edge numbering, orientation, validity checks, areas and quality.
 use std::collections::HashMap;
 
+use crate::map::TriangleMap;
 use crate::{
     BoundaryEdge, BoundaryTag, EdgeId, GeometryOrder, Mesh, MeshError, MeshParts, NodeId, Quality,
 };
@@ -11,60 +12,6 @@ const DEGENERATE_TOL: f64 = 1e-12;
 
 fn signed_area(p: [[f64; 2]; 3]) -> f64 {
     0.5 * ((p[1][0] - p[0][0]) * (p[2][1] - p[0][1]) - (p[2][0] - p[0][0]) * (p[1][1] - p[0][1]))
-}
-
-/// Jacobian determinant of the (straight or quadratic) map at reference point (xi, eta).
-pub(crate) fn jacobian_det(p: &[[f64; 2]], xi: f64, eta: f64) -> f64 {
-    let (dx, dy) = jacobian_columns(p, xi, eta);
-    dx[0] * dy[1] - dx[1] * dy[0]
-}
-
-/// Columns d(u,v)/dxi and d(u,v)/deta of the geometry map.
-pub(crate) fn jacobian_columns(p: &[[f64; 2]], xi: f64, eta: f64) -> ([f64; 2], [f64; 2]) {
-    if p.len() == 3 {
-        return (
-            [p[1][0] - p[0][0], p[1][1] - p[0][1]],
-            [p[2][0] - p[0][0], p[2][1] - p[0][1]],
-        );
-    }
-    // Quadratic Lagrange shape functions on (xi, eta), l0 = 1 - xi - eta.
-    let l0 = 1.0 - xi - eta;
-    let dxi = [
-        -(4.0 * l0 - 1.0),
-        4.0 * xi - 1.0,
-        0.0,
-        4.0 * (l0 - xi),
-        4.0 * eta,
-        -4.0 * eta,
-    ];
-    let deta = [
-        -(4.0 * l0 - 1.0),
-        0.0,
-        4.0 * eta - 1.0,
-        -4.0 * xi,
-        4.0 * xi,
-        4.0 * (l0 - eta),
-    ];
-    let mut a = [0.0; 2];
-    let mut b = [0.0; 2];
-    for i in 0..6 {
-        for c in 0..2 {
-            a[c] += dxi[i] * p[i][c];
-            b[c] += deta[i] * p[i][c];
-        }
-    }
-    (a, b)
-}
-
-/// Area of a straight or quadratic triangle. The Jacobian determinant of a
-/// quadratic map is a quadratic polynomial, integrated exactly by the
-/// 3-point edge-midpoint rule.
-pub(crate) fn triangle_area(p: &[[f64; 2]]) -> f64 {
-    if p.len() == 3 {
-        return signed_area([p[0], p[1], p[2]]);
-    }
-    let pts = [(0.5, 0.0), (0.5, 0.5), (0.0, 0.5)];
-    pts.iter().map(|&(x, y)| jacobian_det(p, x, y) / 6.0).sum()
 }
 
 pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
@@ -126,7 +73,7 @@ pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
             }
         }
         if order == GeometryOrder::Quadratic {
-            let p: Vec<[f64; 2]> = tri.nodes.iter().map(|n| points[n.idx()]).collect();
+            let map = TriangleMap::quadratic(tri.nodes.map(|n| points[n.idx()]));
             // Check the Jacobian at the vertices, mid-sides and centroid.
             let samples = [
                 (0.0, 0.0),
@@ -137,7 +84,7 @@ pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
                 (0.0, 0.5),
                 (1.0 / 3.0, 1.0 / 3.0),
             ];
-            if samples.iter().any(|&(x, y)| jacobian_det(&p, x, y) <= 0.0) {
+            if samples.iter().any(|&(x, y)| map.at(x, y).det() <= 0.0) {
                 return Err(MeshError::Inverted { triangle: t });
             }
         }

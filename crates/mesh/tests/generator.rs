@@ -619,9 +619,13 @@ fn bad_inputs_give_clear_errors() {
     };
     expect_geometry_error(&s, "corner_radius", "half the smaller side");
     s.body.shape = SectionShape::Polygon {
+        vertices: vec![[0.0, 0.0], [2e-6, 2e-6], [2e-6, 0.0], [0.0, 1e-6]],
+    };
+    expect_geometry_error(&s, "body.vertices", "sides 0 and 2 cross or touch");
+    s.body.shape = SectionShape::Polygon {
         vertices: vec![[0.0, 0.0], [1e-6, 1e-6], [1e-6, 0.0], [0.0, 1e-6]],
     };
-    expect_geometry_error(&s, "body.vertices", "not simple");
+    expect_geometry_error(&s, "body.vertices", "zero area");
     s.body.shape = SectionShape::Polygon {
         vertices: vec![[0.0, 0.0], [1e-6, 0.0]],
     };

@@ -1,7 +1,7 @@
 //! Geometric facts about a section shape (in its own frame, centre at the
 //! origin) that the case checks need: extent, symmetries, feature size.
 
-use twistmode_mesh::SectionShape;
+use twistmode_mesh::{polygon, SectionShape};
 
 /// Relative tolerance for symmetry tests.
 const SYMMETRY_TOL: f64 = 1e-9;
@@ -15,10 +15,7 @@ pub(crate) fn bounding_radius(shape: &SectionShape) -> f64 {
             corner_radius: c,
         } => (0.5 * width - c).hypot(0.5 * thickness - c) + c,
         SectionShape::Ellipse { a, b } => a.max(*b),
-        SectionShape::Polygon { vertices } => vertices
-            .iter()
-            .map(|p| p[0].hypot(p[1]))
-            .fold(0.0, f64::max),
+        SectionShape::Polygon { vertices } => polygon::radius(vertices),
     }
 }
 
@@ -70,69 +67,9 @@ pub(crate) fn hydraulic_diameter(shape: &SectionShape) -> f64 {
             4.0 * std::f64::consts::PI * a * b / perimeter
         }
         SectionShape::Polygon { vertices } => {
-            4.0 * polygon_area(vertices).abs() / polygon_perimeter(vertices)
+            4.0 * polygon::signed_area(vertices).abs() / polygon::perimeter(vertices)
         }
     }
-}
-
-/// Signed area of a polygon (shoelace formula), positive counter-clockwise.
-pub(crate) fn polygon_area(v: &[[f64; 2]]) -> f64 {
-    let n = v.len();
-    0.5 * (0..n)
-        .map(|i| {
-            let (p, q) = (v[i], v[(i + 1) % n]);
-            p[0] * q[1] - q[0] * p[1]
-        })
-        .sum::<f64>()
-}
-
-fn polygon_perimeter(v: &[[f64; 2]]) -> f64 {
-    let n = v.len();
-    (0..n)
-        .map(|i| {
-            let (p, q) = (v[i], v[(i + 1) % n]);
-            (q[0] - p[0]).hypot(q[1] - p[1])
-        })
-        .sum()
-}
-
-/// First pair of non-adjacent polygon sides that touch or cross, if any.
-pub(crate) fn polygon_self_intersection(v: &[[f64; 2]]) -> Option<(usize, usize)> {
-    let n = v.len();
-    for i in 0..n {
-        for j in i + 1..n {
-            let adjacent = j == i + 1 || (i == 0 && j == n - 1);
-            if !adjacent && segments_meet(v[i], v[(i + 1) % n], v[j], v[(j + 1) % n]) {
-                return Some((i, j));
-            }
-        }
-    }
-    None
-}
-
-fn orient(a: [f64; 2], b: [f64; 2], c: [f64; 2]) -> f64 {
-    (b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0])
-}
-
-fn on_segment(a: [f64; 2], b: [f64; 2], p: [f64; 2]) -> bool {
-    p[0] >= a[0].min(b[0])
-        && p[0] <= a[0].max(b[0])
-        && p[1] >= a[1].min(b[1])
-        && p[1] <= a[1].max(b[1])
-}
-
-fn segments_meet(p1: [f64; 2], p2: [f64; 2], q1: [f64; 2], q2: [f64; 2]) -> bool {
-    let (d1, d2) = (orient(q1, q2, p1), orient(q1, q2, p2));
-    let (d3, d4) = (orient(p1, p2, q1), orient(p1, p2, q2));
-    if ((d1 > 0.0 && d2 < 0.0) || (d1 < 0.0 && d2 > 0.0))
-        && ((d3 > 0.0 && d4 < 0.0) || (d3 < 0.0 && d4 > 0.0))
-    {
-        return true;
-    }
-    (d1 == 0.0 && on_segment(q1, q2, p1))
-        || (d2 == 0.0 && on_segment(q1, q2, p2))
-        || (d3 == 0.0 && on_segment(p1, p2, q1))
-        || (d4 == 0.0 && on_segment(p1, p2, q2))
 }
 
 /// A point map used by the symmetry tests.
@@ -202,12 +139,15 @@ mod tests {
     }
 
     #[test]
-    fn polygon_checks() {
+    fn polygon_symmetries() {
         let square = vec![[-1.0, -1.0], [1.0, -1.0], [1.0, 1.0], [-1.0, 1.0]];
-        assert_eq!(polygon_area(&square), 4.0);
-        assert!(polygon_self_intersection(&square).is_none());
-        let bow_tie = vec![[-1.0, -1.0], [1.0, 1.0], [1.0, -1.0], [-1.0, 1.0]];
-        assert!(polygon_self_intersection(&bow_tie).is_some());
+        // Hydraulic diameter 4A/P of a 2 x 2 square: 2 (exact).
+        assert_eq!(
+            hydraulic_diameter(&SectionShape::Polygon {
+                vertices: square.clone()
+            }),
+            2.0
+        );
         let sq = SectionShape::Polygon { vertices: square };
         assert!(is_pi_symmetric(&sq) && is_mirror_symmetric_in_u(&sq));
         let tri = SectionShape::Polygon {

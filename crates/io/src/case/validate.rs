@@ -6,6 +6,7 @@ use super::raw::*;
 use super::shape;
 use super::*;
 use crate::units::{parse_quantity, Quantity, UnitError};
+use twistmode_mesh::PolygonDefect;
 
 type Result<T> = std::result::Result<T, CaseError>;
 
@@ -704,24 +705,20 @@ fn polygon(vertices: Option<&[[f64; 2]]>, len: &Lengths) -> Result<SectionShape>
             len.0.to_metres(finite(key, p[1])?),
         ]);
     }
-    let scale = shape::bounding_radius(&SectionShape::Polygon {
-        vertices: pts.clone(),
-    });
-    if shape::polygon_area(&pts).abs() <= 1e-12 * scale * scale {
-        return Err(CaseError::new(
-            key,
-            "the polygon has zero area",
-            "give vertices that enclose a region",
-        ));
-    }
-    if let Some((i, j)) = shape::polygon_self_intersection(&pts) {
-        return Err(CaseError::new(
-            key,
-            format!("the polygon's sides {i} and {j} cross or touch (sides counted from 0; side k joins vertices k and k+1)"),
-            "list the vertices in order around the outline, without repeating the first one at the end",
-        ));
-    }
-    Ok(SectionShape::Polygon { vertices: pts })
+    // The mesher's own check (twistmode_mesh::polygon); the fixes are the reader's.
+    let defect = match twistmode_mesh::check_polygon(&pts) {
+        Ok(_) => return Ok(SectionShape::Polygon { vertices: pts }),
+        Err(defect) => defect,
+    };
+    let fix = match defect {
+        PolygonDefect::TooFewVertices { .. } => "list the outline's corners in order",
+        PolygonDefect::ZeroArea => "give vertices that enclose a region",
+        PolygonDefect::SidesMeet { .. } => {
+            "list the vertices in order around the outline, without repeating the first one at the end"
+        }
+        _ => "give finite coordinates",
+    };
+    Err(CaseError::new(key, defect.to_string(), fix))
 }
 
 fn surroundings(raw: &RawSurroundings, len: &Lengths, lambda0: f64) -> Result<SurroundingMedium> {

@@ -149,136 +149,94 @@ fn rgb(c: [u8; 3]) -> RGBColor {
     RGBColor(c[0], c[1], c[2])
 }
 
-/// Geometry helpers in display units.
+/// Geometry helpers in display units. Every point comes from the mesh
+/// crate's triangle map ([`twistmode_mesh::TriangleMap`]), the same map the
+/// finite elements use, so curved sides are drawn where they are computed.
 struct Geometry<'a> {
     mesh: &'a Mesh,
     scale: f64,
-    /// Mid-side node of each global edge (quadratic meshes).
-    edge_mid: Vec<Option<usize>>,
+    /// For each global edge: a triangle holding it, its local side, and
+    /// whether that side runs along the edge's orientation.
+    edge_side: Vec<(usize, usize, bool)>,
 }
 
 impl<'a> Geometry<'a> {
     fn new(mesh: &'a Mesh, unit: LengthUnit) -> Self {
-        let mut edge_mid = vec![None; mesh.edges().len()];
-        if mesh.order() == GeometryOrder::Quadratic {
-            for (t, tri) in mesh.triangles().iter().enumerate() {
-                for (k, (e, _)) in mesh.triangle_edges()[t].iter().enumerate() {
-                    edge_mid[e.idx()] = Some(tri.nodes[3 + k].idx());
-                }
+        let mut edge_side = vec![(0, 0, true); mesh.edges().len()];
+        for (t, sides) in mesh.triangle_edges().iter().enumerate() {
+            for (k, (e, sign)) in sides.iter().enumerate() {
+                edge_side[e.idx()] = (t, k, *sign > 0);
             }
         }
         Geometry {
             mesh,
             scale: 1.0 / unit.metres(),
-            edge_mid,
+            edge_side,
         }
     }
 
-    fn point(&self, node: usize) -> [f64; 2] {
-        let p = self.mesh.points()[node];
-        [p[0] * self.scale, p[1] * self.scale]
+    fn display(&self, p: [f64; 2]) -> (f64, f64) {
+        (p[0] * self.scale, p[1] * self.scale)
     }
 
-    /// Points along the edge from node `a` to node `b` (curved through `mid` when given).
-    fn curve(&self, a: usize, b: usize, mid: Option<usize>) -> Vec<(f64, f64)> {
-        let (pa, pb) = (self.point(a), self.point(b));
+    /// Points along side `k` of triangle `t`, from its vertex `k` to `k + 1`.
+    fn side(&self, t: usize, k: usize) -> Vec<(f64, f64)> {
+        let map = self.mesh.triangle_map(t);
+        let nodes = map.nodes();
         // Straight sides are drawn as one segment: plotters rasterises a
         // chain of short collinear segments with visible gaps.
-        let curved = mid.filter(|&m| !self.on_chord(pa, pb, self.point(m)));
-        match curved {
-            None => vec![(pa[0], pa[1]), (pb[0], pb[1])],
-            Some(m) => {
-                let pm = self.point(m);
-                (0..=6)
-                    .map(|i| {
-                        let s = i as f64 / 6.0;
-                        let (na, nb, nm) = (
-                            (1.0 - s) * (1.0 - 2.0 * s),
-                            s * (2.0 * s - 1.0),
-                            4.0 * s * (1.0 - s),
-                        );
-                        (
-                            na * pa[0] + nb * pb[0] + nm * pm[0],
-                            na * pa[1] + nb * pb[1] + nm * pm[1],
-                        )
-                    })
-                    .collect()
-            }
-        }
+        let curved = map.is_quadratic() && !on_chord(nodes[k], nodes[(k + 1) % 3], nodes[3 + k]);
+        let n = if curved { 6 } else { 1 };
+        (0..=n)
+            .map(|i| self.display(map.side_point(k, i as f64 / n as f64)))
+            .collect()
     }
 
-    /// True when `pm` is (to 1e-3 of the chord length) the midpoint of the chord `pa`-`pb`.
-    fn on_chord(&self, pa: [f64; 2], pb: [f64; 2], pm: [f64; 2]) -> bool {
-        let (cx, cy) = (0.5 * (pa[0] + pb[0]), 0.5 * (pa[1] + pb[1]));
-        (pm[0] - cx).hypot(pm[1] - cy) <= 1e-3 * (pb[0] - pa[0]).hypot(pb[1] - pa[1])
-    }
-
-    /// The global edge `e` as a polyline.
+    /// The global edge `e` as a polyline, from its low to its high vertex.
     fn edge(&self, e: usize) -> Vec<(f64, f64)> {
-        let [a, b] = self.mesh.edges()[e];
-        self.curve(a.idx(), b.idx(), self.edge_mid[e])
+        let (t, k, along) = self.edge_side[e];
+        let mut pts = self.side(t, k);
+        if !along {
+            pts.reverse();
+        }
+        pts
     }
 
     /// Outline of triangle `t` as a closed polygon (curved sides sampled).
     fn outline(&self, t: usize) -> Vec<(f64, f64)> {
-        let tri = &self.mesh.triangles()[t];
-        let quad = self.mesh.order() == GeometryOrder::Quadratic;
         let mut pts = Vec::new();
         for k in 0..3 {
-            let mid = quad.then(|| tri.nodes[3 + k].idx());
-            let mut side = self.curve(tri.nodes[k].idx(), tri.nodes[(k + 1) % 3].idx(), mid);
+            let mut side = self.side(t, k);
             side.pop();
             pts.extend(side);
         }
         pts
     }
 
-    /// Point and interpolated value at barycentric `(l1, l2)` of triangle `t`
-    /// (`l0 = 1 - l1 - l2`), using the geometry's shape functions.
-    fn sample(&self, t: usize, l1: f64, l2: f64, values: &[f64]) -> ((f64, f64), f64) {
-        let tri = &self.mesh.triangles()[t];
-        let l0 = 1.0 - l1 - l2;
-        let weights: Vec<f64> = match self.mesh.order() {
-            GeometryOrder::Linear => vec![l0, l1, l2],
-            GeometryOrder::Quadratic => vec![
-                l0 * (2.0 * l0 - 1.0),
-                l1 * (2.0 * l1 - 1.0),
-                l2 * (2.0 * l2 - 1.0),
-                4.0 * l0 * l1,
-                4.0 * l1 * l2,
-                4.0 * l2 * l0,
-            ],
-        };
-        let (mut x, mut y, mut v) = (0.0, 0.0, 0.0);
-        for (w, n) in weights.iter().zip(&tri.nodes) {
-            let p = self.point(n.idx());
-            x += w * p[0];
-            y += w * p[1];
-            v += w * values[n.idx()];
-        }
-        ((x, y), v)
+    /// Point and interpolated value at reference point `(xi, eta)` of
+    /// triangle `t`, using the geometry's shape functions.
+    fn sample(&self, t: usize, xi: f64, eta: f64, values: &[f64]) -> ((f64, f64), f64) {
+        let map = self.mesh.triangle_map(t);
+        let weights = map.shape(xi, eta).value;
+        let nodes = &self.mesh.triangles()[t].nodes[..map.nodes().len()];
+        let v = weights
+            .iter()
+            .zip(nodes)
+            .map(|(w, n)| w * values[n.idx()])
+            .sum();
+        (self.display(map.point(xi, eta)), v)
     }
 
-    /// Bounding box `[x0, x1, y0, y1]` of all nodes, display units.
+    /// Bounding box `[x0, x1, y0, y1]` of the mesh (curved sides included), display units.
     fn bounds(&self) -> [f64; 4] {
-        (0..self.mesh.points().len()).fold(
-            [
-                f64::INFINITY,
-                f64::NEG_INFINITY,
-                f64::INFINITY,
-                f64::NEG_INFINITY,
-            ],
-            |b, i| {
-                let p = self.point(i);
-                [
-                    b[0].min(p[0]),
-                    b[1].max(p[0]),
-                    b[2].min(p[1]),
-                    b[3].max(p[1]),
-                ]
-            },
-        )
+        self.mesh.bounding_box().to_array().map(|x| x * self.scale)
     }
+}
+
+/// True when `m` is (to 1e-3 of the chord length) the midpoint of the chord `a`-`b`.
+fn on_chord(a: [f64; 2], b: [f64; 2], m: [f64; 2]) -> bool {
+    let (cx, cy) = (0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1]));
+    (m[0] - cx).hypot(m[1] - cy) <= 1e-3 * (b[0] - a[0]).hypot(b[1] - a[1])
 }
 
 fn axis_names(mesh: &Mesh) -> (&'static str, &'static str) {
@@ -797,4 +755,81 @@ fn colour_bar(
         .map_err(drawing)?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use twistmode_mesh::{BoundaryTag, MeshParts, NodeId, Region, RegionId, Triangle};
+
+    /// One quadratic triangle (0,0), (2,0), (0,2) mm, its side 0-1 bowed
+    /// down to (1, -0.5) mm at the middle, the others straight.
+    fn bowed() -> Mesh {
+        let mm = 1e-3;
+        let points = [
+            [0.0, 0.0],
+            [2.0, 0.0],
+            [0.0, 2.0],
+            [1.0, -0.5],
+            [1.0, 1.0],
+            [0.0, 1.0],
+        ]
+        .map(|p| [p[0] * mm, p[1] * mm])
+        .to_vec();
+        // Listed clockwise, so Mesh::new flips it (vertices 1 and 2 swap).
+        let order = [0, 2, 1, 5, 4, 3].map(NodeId);
+        Mesh::new(MeshParts {
+            points,
+            order: GeometryOrder::Quadratic,
+            triangles: vec![Triangle {
+                nodes: order,
+                region: RegionId(0),
+            }],
+            regions: vec![Region {
+                name: "body".into(),
+                kind: RegionKind::Body {
+                    material: "m".into(),
+                },
+            }],
+            boundary_names: vec!["outer".into()],
+            boundary_segments: [(0, 1), (1, 2), (2, 0)]
+                .map(|(a, b)| ([NodeId(a), NodeId(b)], BoundaryTag(0)))
+                .to_vec(),
+            domain: None,
+        })
+        .unwrap()
+    }
+
+    #[test]
+    fn edges_follow_the_curve_from_low_to_high_vertex() {
+        let mesh = bowed();
+        let g = Geometry::new(&mesh, LengthUnit::Millimetre);
+        for (e, [a, b]) in mesh.edges().iter().enumerate() {
+            let line = g.edge(e);
+            let (pa, pb) = (
+                g.display(mesh.points()[a.idx()]),
+                g.display(mesh.points()[b.idx()]),
+            );
+            assert_eq!((line[0], line[line.len() - 1]), (pa, pb));
+            if [a.0, b.0] == [0, 1] {
+                // Curved: 7 points, the middle one on the mid-side node.
+                assert_eq!(line.len(), 7);
+                let m = line[3];
+                assert!((m.0 - 1.0).abs() < 1e-12 && (m.1 + 0.5).abs() < 1e-12);
+            } else {
+                assert_eq!(line.len(), 2);
+            }
+        }
+        // The frame reaches the bulge, below every node but the mid-side one.
+        let b = g.bounds();
+        assert!((b[2] + 0.5).abs() < 1e-12 && (b[3] - 2.0).abs() < 1e-12);
+        // Sampling interpolates with the geometry's shape functions: a field
+        // linear in (u, v) is linear in (xi, eta) only for straight maps, but
+        // its nodal values interpolate it exactly at the mapped point because
+        // u and v themselves are interpolated by the same functions.
+        let f = |p: [f64; 2]| 2.0 * p[0] - 3.0 * p[1];
+        let values: Vec<f64> = mesh.points().iter().map(|p| f(*p)).collect();
+        let (x, v) = g.sample(0, 0.2, 0.3, &values);
+        assert!((v - f([x.0 * 1e-3, x.1 * 1e-3])).abs() < 1e-15);
+    }
 }

@@ -151,89 +151,11 @@ fn validate(spec: &GeneratorSpec) -> Result<(), MeshError> {
     Ok(())
 }
 
-fn cross(o: P2, a: P2, b: P2) -> f64 {
-    (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0])
-}
-
-fn segments_intersect(p1: P2, p2: P2, q1: P2, q2: P2) -> bool {
-    let d1 = cross(q1, q2, p1);
-    let d2 = cross(q1, q2, p2);
-    let d3 = cross(p1, p2, q1);
-    let d4 = cross(p1, p2, q2);
-    let straddle = ((d1 > 0.0 && d2 < 0.0) || (d1 < 0.0 && d2 > 0.0))
-        && ((d3 > 0.0 && d4 < 0.0) || (d3 < 0.0 && d4 > 0.0));
-    if straddle {
-        return true;
-    }
-    let on = |a: P2, b: P2, p: P2, d: f64| {
-        d == 0.0
-            && p[0] >= a[0].min(b[0])
-            && p[0] <= a[0].max(b[0])
-            && p[1] >= a[1].min(b[1])
-            && p[1] <= a[1].max(b[1])
-    };
-    on(q1, q2, p1, d1) || on(q1, q2, p2, d2) || on(p1, p2, q1, d3) || on(p1, p2, q2, d4)
-}
-
+/// The shared polygon check ([`crate::polygon::check_polygon`]), reported on `body.vertices`.
 fn validate_polygon(v: &[[f64; 2]]) -> Result<(), MeshError> {
-    if v.len() < 3 {
-        return Err(geometry(
-            "body.vertices",
-            format!("a polygon needs at least 3 vertices, got {}", v.len()),
-        ));
-    }
-    if v.iter().any(|p| !(p[0].is_finite() && p[1].is_finite())) {
-        return Err(geometry("body.vertices", "vertices must be finite"));
-    }
-    let n = v.len();
-    for i in 0..n {
-        if v[i] == v[(i + 1) % n] {
-            return Err(geometry(
-                "body.vertices",
-                format!("vertices {i} and {} coincide", (i + 1) % n),
-            ));
-        }
-    }
-    for i in 0..n {
-        for j in i + 1..n {
-            let adjacent = j == i + 1 || (i == 0 && j == n - 1);
-            let (a1, a2, b1, b2) = (v[i], v[(i + 1) % n], v[j], v[(j + 1) % n]);
-            if adjacent {
-                // Adjacent edges may only share their common vertex: reject
-                // folding back along the same line.
-                let shared = if j == i + 1 { a2 } else { a1 };
-                let other_a = if j == i + 1 { a1 } else { a2 };
-                let other_b = if j == i + 1 { b2 } else { b1 };
-                if cross(shared, other_a, other_b) == 0.0 {
-                    let dot = (other_a[0] - shared[0]) * (other_b[0] - shared[0])
-                        + (other_a[1] - shared[1]) * (other_b[1] - shared[1]);
-                    if dot > 0.0 {
-                        return Err(geometry(
-                            "body.vertices",
-                            format!("edges {i} and {j} fold back onto each other"),
-                        ));
-                    }
-                }
-            } else if segments_intersect(a1, a2, b1, b2) {
-                return Err(geometry(
-                    "body.vertices",
-                    format!("the polygon is not simple: edges {i} and {j} intersect"),
-                ));
-            }
-        }
-    }
-    let area: f64 = (0..n)
-        .map(|i| cross([0.0, 0.0], v[i], v[(i + 1) % n]))
-        .sum::<f64>()
-        * 0.5;
-    let scale = v
-        .iter()
-        .map(|p| p[0].abs().max(p[1].abs()))
-        .fold(0.0, f64::max);
-    if area.abs() <= 1e-12 * scale * scale {
-        return Err(geometry("body.vertices", "the polygon has zero area"));
-    }
-    Ok(())
+    crate::polygon::check_polygon(v)
+        .map(|_| ())
+        .map_err(|defect| geometry("body.vertices", defect.to_string()))
 }
 
 /// Outline pieces of the body in its own frame (centre at the origin).
