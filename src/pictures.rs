@@ -32,23 +32,10 @@ type FieldMap = (&'static str, &'static str, fn(&[Complex64; 3]) -> f64);
 /// side on every side (clipped to the mesh), where the field of a confined
 /// mode lives.
 fn field_window(mesh: &Mesh) -> [f64; 4] {
-    let b = twistmode_pipeline::body_box(mesh);
-    let all = mesh.points().iter().fold(
-        [
-            f64::INFINITY,
-            f64::NEG_INFINITY,
-            f64::INFINITY,
-            f64::NEG_INFINITY,
-        ],
-        |a, p| {
-            [
-                a[0].min(p[0]),
-                a[1].max(p[0]),
-                a[2].min(p[1]),
-                a[3].max(p[1]),
-            ]
-        },
-    );
+    let all = mesh.bounding_box().to_array();
+    let Some(b) = mesh.body_box().map(|b| b.to_array()) else {
+        return all;
+    };
     let margin = (b[1] - b[0]).max(b[3] - b[2]);
     [
         (b[0] - margin).max(all[0]),

@@ -8,9 +8,9 @@ use twistmode_analysis::{
 use twistmode_eigen::Spectrum;
 use twistmode_fem::{AssembledSystem, EnergySummary, FieldEvaluator, SectionProblem};
 use twistmode_io::case::{Body, Case};
-use twistmode_mesh::{Mesh, PmlGeometry, RegionKind};
+use twistmode_mesh::{Mesh, PmlGeometry, PointLocator};
 
-use crate::model::{body_box, mode_order, outer_index, pml_start_from_axis, reference_radius};
+use crate::model::{mode_order, outer_index, pml_start_from_axis, reference_radius};
 use crate::{ModeReport, SolveSettings, SolverFacts};
 
 /// Geometric facts of the section that every mode's description reads.
@@ -23,17 +23,20 @@ pub(crate) struct SectionFacts {
     pub pml_start: Option<f64>,
     /// Whether the mesh has a PML.
     pub has_pml: bool,
+    /// Finds the body triangle under a point (field samples).
+    pub locator: PointLocator,
 }
 
 impl SectionFacts {
     pub(crate) fn of(case: &Case, mesh: &Mesh) -> SectionFacts {
-        let bbox = body_box(mesh);
+        let bbox = mesh.body_box().map_or([0.0; 4], |b| b.to_array());
         let (extent_u, extent_v) = (bbox[1] - bbox[0], bbox[3] - bbox[2]);
         SectionFacts {
             bbox,
             aspect: extent_u.max(extent_v) / extent_u.min(extent_v),
             pml_start: pml_start_from_axis(case, mesh),
             has_pml: !matches!(mesh.domain().map(|d| d.pml), None | Some(PmlGeometry::None)),
+            locator: PointLocator::bodies(mesh),
         }
     }
 }
@@ -80,7 +83,6 @@ pub(crate) fn report_mode(
     case: &Case,
     settings: &SolveSettings,
     section: &SectionFacts,
-    mesh: &Mesh,
     inputs: ModeInputs<'_>,
     shape_field: &FieldEvaluator<'_, '_>,
 ) -> ModeReport {
@@ -99,7 +101,7 @@ pub(crate) fn report_mode(
         (fv, fu)
     };
     let polarisation = classify_polarisation(wide, narrow, section.aspect, 0.7);
-    let (maxima_u, maxima_v) = count_section_maxima(shape_field, mesh, bbox);
+    let (maxima_u, maxima_v) = count_section_maxima(shape_field, &section.locator, bbox);
     let (m, beta, effective_index) = match case.body {
         Body::Straight { .. } => (None, Some(order), Some(order / k0.re)),
         _ => (
@@ -207,7 +209,7 @@ pub(crate) fn describe_modes(
             pml_heavy,
             order: mode_order(case),
         };
-        let report = report_mode(case, settings, &section, mesh, inputs, &field);
+        let report = report_mode(case, settings, &section, inputs, &field);
         out.push((report, field.nodal_values()));
     }
     in_frequency_order(out)
@@ -217,13 +219,14 @@ pub(crate) fn describe_modes(
 /// through the u position of the strongest sample.
 pub(crate) fn count_section_maxima(
     field: &FieldEvaluator<'_, '_>,
-    mesh: &Mesh,
+    locator: &PointLocator,
     bbox: [f64; 4],
 ) -> (usize, usize) {
     const SAMPLES: usize = 121;
     let sample = |p: [f64; 2]| -> f64 {
-        locate(mesh, p)
-            .and_then(|(t, xi, eta)| field.physical(t, xi, eta))
+        locator
+            .locate(p)
+            .and_then(|l| field.physical(l.triangle, l.xi, l.eta))
             .map(|f| f.norm_sq)
             .unwrap_or(0.0)
     };
@@ -243,26 +246,4 @@ pub(crate) fn count_section_maxima(
         .map(|i| sample([u_best, inset(bbox[2], bbox[3], i)]))
         .collect();
     (count_maxima(&along_u, 0.1), count_maxima(&along_v, 0.1))
-}
-
-/// Finds the body triangle containing `p` (straight-sided approximation) and
-/// the reference coordinates of `p` in it.
-fn locate(mesh: &Mesh, p: [f64; 2]) -> Option<(usize, f64, f64)> {
-    for (t, tri) in mesh.triangles().iter().enumerate() {
-        if !matches!(
-            mesh.regions()[tri.region.idx()].kind,
-            RegionKind::Body { .. }
-        ) {
-            continue;
-        }
-        let [a, b, c] = tri.vertices().map(|n| mesh.points()[n.idx()]);
-        let det = (b[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (b[1] - a[1]);
-        let xi = ((p[0] - a[0]) * (c[1] - a[1]) - (c[0] - a[0]) * (p[1] - a[1])) / det;
-        let eta = ((b[0] - a[0]) * (p[1] - a[1]) - (p[0] - a[0]) * (b[1] - a[1])) / det;
-        let tol = -1e-12;
-        if xi >= tol && eta >= tol && xi + eta <= 1.0 - tol {
-            return Some((t, xi.max(0.0), eta.max(0.0)));
-        }
-    }
-    None
 }

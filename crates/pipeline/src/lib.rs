@@ -34,6 +34,6 @@ pub use error::PipelineError;
 pub use facts::{
     MeshFacts, ModeReport, SolveOutcome, SolveSettings, SolverFacts, TwistFacts, TwistSolverFacts,
 };
-pub use model::{body_box, build_mesh, reference_radius, set_up};
+pub use model::{build_mesh, reference_radius, set_up};
 pub use run::{solve_case, solve_case_reporting};
 pub use search::find_eigenpairs;

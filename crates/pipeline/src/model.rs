@@ -7,7 +7,7 @@ use twistmode_fem::{
     Wall,
 };
 use twistmode_io::case::{Body, Case, MeshSource, Midplane, ModeOrder, SurroundingMedium};
-use twistmode_mesh::{boundary_names, GeometryOrder, Mesh, PmlGeometry, RegionKind};
+use twistmode_mesh::{boundary_names, GeometryOrder, Mesh, PmlGeometry};
 
 use crate::{MeshFacts, PipelineError};
 
@@ -47,32 +47,13 @@ pub(crate) fn outer_index(case: &Case) -> f64 {
 
 /// A mesh read from a Gmsh file carries no PML geometry: when it has a PML
 /// region, take it as a radial shell about the origin (bodies of revolution)
-/// or about the body's centre (rings, guides), from the nearest and farthest
-/// PML vertex.
+/// or about the body's centre (rings, guides).
 fn imported_pml(case: &Case, mesh: &Mesh) -> Option<PmlGeometry> {
     let centre = match case.body {
         Body::Revolution => [0.0, 0.0],
-        _ => {
-            let b = body_box(mesh);
-            [0.5 * (b[0] + b[1]), 0.5 * (b[2] + b[3])]
-        }
+        _ => mesh.body_box()?.centre(),
     };
-    let (mut inner, mut outer) = (f64::INFINITY, 0.0f64);
-    for t in mesh.triangles() {
-        if mesh.regions()[t.region.idx()].kind == RegionKind::Pml {
-            for n in t.vertices() {
-                let p = mesh.points()[n.idx()];
-                let d = (p[0] - centre[0]).hypot(p[1] - centre[1]);
-                inner = inner.min(d);
-                outer = outer.max(d);
-            }
-        }
-    }
-    (outer > inner).then_some(PmlGeometry::Radial {
-        centre,
-        inner,
-        outer,
-    })
+    mesh.infer_radial_pml(centre)
 }
 
 /// The finite-element setup of a case on its mesh.
@@ -163,28 +144,6 @@ pub fn reference_radius(case: &Case) -> Option<f64> {
         Body::Revolution if case.section.centre[0] > 0.0 => Some(case.section.centre[0]),
         _ => None,
     }
-}
-
-/// Bounding box `[u_min, u_max, v_min, v_max]` of the body regions.
-pub fn body_box(mesh: &Mesh) -> [f64; 4] {
-    let mut b = [
-        f64::INFINITY,
-        f64::NEG_INFINITY,
-        f64::INFINITY,
-        f64::NEG_INFINITY,
-    ];
-    for t in mesh.triangles() {
-        if matches!(mesh.regions()[t.region.idx()].kind, RegionKind::Body { .. }) {
-            for n in t.vertices() {
-                let p = mesh.points()[n.idx()];
-                b[0] = b[0].min(p[0]);
-                b[1] = b[1].max(p[0]);
-                b[2] = b[2].min(p[1]);
-                b[3] = b[3].max(p[1]);
-            }
-        }
-    }
-    b
 }
 
 /// Smallest distance from the axis at which the PML starts (bodies with an axis).

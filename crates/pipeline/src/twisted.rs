@@ -248,7 +248,6 @@ impl Describer<'_, '_> {
                 case,
                 self.settings,
                 &self.section,
-                mesh,
                 ModeInputs {
                     k0: k0_from_eigenvalue(pair.lambda),
                     residual: pair.residual,
