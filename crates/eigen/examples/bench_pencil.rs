@@ -110,7 +110,7 @@ fn main() {
             let mut op = ShiftInvert::try_new_with_ordering(&pencil, ordering).unwrap();
             let r = op.factor(sigma).unwrap();
             println!("ordering {:?}: fill nnz(L+U) = {} ({:.1} x pattern), analysis {:.2} s, factor {:.2} s",
-                ordering, op.fill_nnz(), op.fill_nnz() as f64 / op.pattern_nnz() as f64,
+                op.ordering(), op.fill_nnz(), op.fill_nnz() as f64 / op.pattern_nnz() as f64,
                 op.analysis_seconds(), r.seconds);
         }
     }

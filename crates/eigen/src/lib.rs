@@ -33,20 +33,29 @@
 #[cfg(feature = "arpack")]
 pub mod arpack;
 mod error;
+mod factor;
+mod lblt;
+mod lu;
 mod matrix_market;
+mod memory;
 pub mod model;
+mod ordering;
+mod pattern;
+mod pencil;
 pub mod scaling;
 mod shift_invert;
 mod solve;
 mod window;
 
 pub use error::EigenError;
+pub use factor::{ConditionEstimate, Factorisation, SparseFactor};
 pub use faer::c64;
 pub use matrix_market::{read_matrix_market, write_matrix_market};
 pub use model::sparse_from_triplets;
-pub use shift_invert::{
-    FactorReport, Factorisation, FillOrdering, Pencil, ShiftInvert, REFINE_ABOVE,
-};
+pub use ordering::{amd_ordering, node_major_ordering, FillOrdering};
+pub use pattern::UnionPattern;
+pub use pencil::Pencil;
+pub use shift_invert::{FactorReport, ShiftInvert, REFINE_ABOVE};
 pub use solve::{
     relative_residual, solve_near, solve_near_growing, EigenPair, SolveOptions, Spectrum, Stats,
     Status,

@@ -4,12 +4,13 @@
 use std::sync::atomic::Ordering as AtomicOrdering;
 use std::time::Instant;
 
-use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::dyn_stack::MemStack;
 use faer::matrix_free::eigen::{partial_eigen, partial_eigen_scratch, PartialEigenParams};
 use faer::sparse::linalg::matmul::sparse_dense_matmul;
 use faer::{c64, Accum, Col, Mat, Par};
 
-use crate::shift_invert::next_uniform;
+use crate::factor::next_uniform;
+use crate::memory::{try_buffer, try_zeros};
 use crate::{EigenError, FactorReport, Pencil, ShiftInvert};
 
 /// Options of one shift-invert solve.
@@ -353,14 +354,14 @@ impl ShiftInvert<'_> {
         let v0 = Col::<c64>::from_fn(n, |i| start[i]);
         // Scale of the operator's dominant eigenvalues: a few power steps. faer's locking
         // test is absolute, so the Krylov tolerance is taken relative to this scale.
-        let mut x = Mat::<c64>::zeros(n, 1);
-        let mut y = Mat::<c64>::zeros(n, 1);
+        let mut x = try_zeros::<c64>(n, 1)?;
+        let mut y = try_zeros::<c64>(n, 1)?;
         x.col_mut(0).copy_from(&v0);
         let mut theta_scale = 0.0;
         for _ in 0..3 {
             let nx = x.norm_l2();
             x /= faer::Scale(c64::from(nx));
-            self.apply_to(y.as_mut(), x.as_ref());
+            self.apply_to(y.as_mut(), x.as_ref())?;
             theta_scale = y.norm_l2();
             std::mem::swap(&mut x, &mut y);
         }
@@ -378,9 +379,8 @@ impl ShiftInvert<'_> {
         };
         let krylov_tol = theta_scale * KRYLOV_RELATIVE_TOL;
         let par = Par::Seq;
-        let mut mem = MemBuffer::try_new(partial_eigen_scratch::<c64>(self, want, par, params))
-            .map_err(|_| EigenError::Backend("out of memory for the Krylov basis".into()))?;
-        let mut vecs = Mat::<c64>::zeros(n, want);
+        let mut mem = try_buffer(partial_eigen_scratch::<c64>(self, want, par, params))?;
+        let mut vecs = try_zeros::<c64>(n, want)?;
         let mut vals = vec![c64::ZERO; want];
         let info = partial_eigen(
             vecs.as_mut(),
@@ -408,7 +408,7 @@ impl ShiftInvert<'_> {
                 vector: v,
                 converged: false,
             };
-            self.polish(&mut pair, opts.tol);
+            self.polish(&mut pair, opts.tol)?;
             pair.converged = pair.residual <= opts.tol;
             pairs.push(pair);
         }
@@ -425,26 +425,26 @@ impl ShiftInvert<'_> {
     /// less than 1e-6 of itself). Inverse iteration at the shift pulls every vector
     /// towards the eigenvector nearest the shift, so without that guard a pair far from
     /// the shift could turn into a copy of the nearest one.
-    fn polish(&self, pair: &mut EigenPair, tol: f64) {
+    fn polish(&self, pair: &mut EigenPair, tol: f64) -> Result<(), EigenError> {
         let n = self.dim();
         let pencil = self.pencil();
         for _ in 0..3 {
             if pair.residual <= tol * 1e-2 {
-                return;
+                return Ok(());
             }
-            let mut x = Mat::<c64>::zeros(n, 1);
+            let mut x = try_zeros::<c64>(n, 1)?;
             for i in 0..n {
                 x[(i, 0)] = pair.vector[i];
             }
-            let mut y = Mat::<c64>::zeros(n, 1);
-            self.apply_to(y.as_mut(), x.as_ref());
+            let mut y = try_zeros::<c64>(n, 1)?;
+            self.apply_to(y.as_mut(), x.as_ref())?;
             let mut v: Vec<c64> = (0..n).map(|i| y[(i, 0)]).collect();
             normalise(&mut v);
             let kx = mul(&pencil.k, &v);
             let mx = mul(&pencil.m, &v);
             let denom = dot(&v, &mx);
             if denom.norm() == 0.0 {
-                return;
+                return Ok(());
             }
             let lambda = dot(&v, &kx) / denom;
             let res = residual_from(&kx, &mx, lambda);
@@ -458,9 +458,10 @@ impl ShiftInvert<'_> {
                     converged: false,
                 };
             } else {
-                return;
+                return Ok(());
             }
         }
+        Ok(())
     }
 }
 
