@@ -11,7 +11,7 @@ use faer::{c64, Accum, Col, Mat, Par};
 
 use crate::factor::next_uniform;
 use crate::memory::{try_buffer, try_zeros};
-use crate::{EigenError, FactorReport, Pencil, ShiftInvert};
+use crate::{EigenError, FactorReport, FillOrdering, Pencil, ShiftInvert};
 
 /// Options of one shift-invert solve.
 #[derive(Debug, Clone)]
@@ -28,6 +28,11 @@ pub struct SolveOptions {
     pub start: Option<Vec<c64>>,
     /// pairs with `|lambda|` below this are static (gradient) modes: counted, set aside
     pub static_below: f64,
+    /// `None`: the factorisation is chosen from the pencil (the symmetric `L B L^T` when
+    /// `K` and `M` are complex-symmetric, else the LU with COLAMD); `Some(ordering)`:
+    /// the LU with that fill-reducing ordering, whatever the pencil's symmetry (see
+    /// [`ShiftInvert::try_new_with_ordering`])
+    pub lu_ordering: Option<FillOrdering>,
 }
 
 impl Default for SolveOptions {
@@ -39,6 +44,7 @@ impl Default for SolveOptions {
             krylov_dim: None,
             start: None,
             static_below: 0.0,
+            lu_ordering: None,
         }
     }
 }
@@ -139,7 +145,7 @@ pub(crate) fn solve_near_with(
     solve: impl FnOnce(&mut ShiftInvert<'_>, c64, &SolveOptions) -> Result<Spectrum, EigenError>,
 ) -> Result<Spectrum, EigenError> {
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
-    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     let mut spectrum = solve(&mut op, sigma, opts)?;
     restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
     Ok(spectrum)
@@ -156,7 +162,7 @@ pub fn solve_near_growing(
     mut more: impl FnMut(&Spectrum) -> Option<usize>,
 ) -> Result<Spectrum, EigenError> {
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
-    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     check_options(op.dim(), opts)?;
     let mut report = op.factor(sigma)?;
     let mut opts = opts.clone();
@@ -215,7 +221,15 @@ pub(crate) fn restore_pairs(
     }
 }
 
-impl ShiftInvert<'_> {
+impl<'p> ShiftInvert<'p> {
+    /// The operator `opts` asks for: see [`SolveOptions::lu_ordering`].
+    pub(crate) fn for_options(pencil: &'p Pencil, opts: &SolveOptions) -> Result<Self, EigenError> {
+        match &opts.lu_ordering {
+            None => ShiftInvert::try_new(pencil),
+            Some(ordering) => ShiftInvert::try_new_with_ordering(pencil, ordering.clone()),
+        }
+    }
+
     /// Factorises at `sigma` (reusing the symbolic analysis) and finds the nearest pairs.
     pub fn solve_near(&mut self, sigma: c64, opts: &SolveOptions) -> Result<Spectrum, EigenError> {
         check_options(self.dim(), opts)?;
