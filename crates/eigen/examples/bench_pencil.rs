@@ -16,9 +16,13 @@
 //! CELLS = 501 gives 500^2 = 250 000 unknowns. Run from the workspace root (the scipy
 //! reference is `tools/eigs_reference.py`).
 
+#[path = "common/args.rs"]
+mod args;
+
 use std::process::Command;
 use std::time::Instant;
 
+use args::Args;
 use twistmode_eigen::model::{coupled_copies, helmholtz_p1_absorbing, symmetric_part};
 use twistmode_eigen::{
     amd_ordering, c64, node_major_ordering, write_matrix_market, FillOrdering, ShiftInvert,
@@ -88,27 +92,18 @@ fn arpack_cross_check(
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().skip(1).collect();
-    let value_of = |flag: &str| {
-        args.iter()
-            .position(|a| a == flag)
-            .and_then(|i| args.get(i + 1))
-            .cloned()
-    };
-    let cells: usize = args
-        .iter()
-        .enumerate()
-        .filter(|&(i, _)| i == 0 || !matches!(args[i - 1].as_str(), "--copies" | "--write"))
-        .find_map(|(_, a)| a.parse().ok())
-        .unwrap_or(501);
-    let copies: usize = value_of("--copies").map_or(1, |c| c.parse().expect("--copies C"));
-    let write_to = value_of("--write");
-    let with_scipy = !args.iter().any(|a| a == "--no-scipy");
-    let compare_orderings = args.iter().any(|a| a == "--orderings");
+    let args = Args::from_env();
+    let cells = args.size(&["--copies", "--write"]).unwrap_or(501);
+    let copies: usize = args
+        .value_of("--copies")
+        .map_or(1, |c| c.parse().expect("--copies C"));
+    let write_to = args.value_of("--write");
+    let with_scipy = !args.has("--no-scipy");
+    let compare_orderings = args.has("--orderings");
     let count = 10;
     let sigma = c64::new(2000.0, 0.0);
 
-    let symmetric = args.iter().any(|a| a == "--symmetric");
+    let symmetric = args.has("--symmetric");
     let t = Instant::now();
     let base = if symmetric {
         // complex-symmetric variant: the symmetric factorisation is chosen
@@ -172,7 +167,7 @@ fn main() {
             p.lambda.re, p.lambda.im, p.residual
         );
     }
-    if args.iter().any(|a| a == "--arpack") {
+    if args.has("--arpack") {
         arpack_cross_check(&mut op, sigma, &opts, &s.pairs);
     }
     if !with_scipy && write_to.is_none() {

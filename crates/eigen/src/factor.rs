@@ -65,6 +65,13 @@ pub trait SparseFactor: std::fmt::Debug + Send + Sync {
     /// documents it (known after the symbolic analysis).
     fn fill_nnz(&self) -> usize;
 
+    /// Peak bytes that the first [`SparseFactor::factorize`] and the
+    /// [`SparseFactor::estimate_condition`] after it allocate together: factor values and
+    /// indices (supernodal padding included), pivots, every workspace, predicted from the
+    /// symbolic analysis alone. Later factorisations at other shifts may reuse the
+    /// factor's storage and allocate less.
+    fn estimated_factor_bytes(&self, par: Par) -> usize;
+
     /// Numeric factorisation of `a` (values of `K - sigma M` in the fixed pattern).
     fn factorize(&mut self, a: SparseColMatRef<'_, usize, c64>, par: Par)
         -> Result<(), EigenError>;
@@ -114,6 +121,12 @@ pub trait SparseFactor: std::fmt::Debug + Send + Sync {
             backward_error: r_norm / (a_norm * x_norm + b_norm),
         })
     }
+}
+
+/// Bytes [`SparseFactor::estimate_condition`] allocates besides the solve workspace (two
+/// complex columns: the right-hand side, which becomes the residual, and the solution).
+pub(crate) fn probe_bytes(n: usize) -> usize {
+    2 * n * std::mem::size_of::<c64>()
 }
 
 /// Largest column sum of absolute values.

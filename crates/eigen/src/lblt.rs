@@ -21,8 +21,10 @@ use faer::sparse::linalg::SupernodalThreshold;
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
 use faer::{c64, Conj, MatMut, Par, Side};
 
-use crate::factor::SparseFactor;
-use crate::memory::{faer_error, try_buffer, try_collect, try_vec, try_with_capacity};
+use std::mem::size_of;
+
+use crate::factor::{probe_bytes, SparseFactor};
+use crate::memory::{bytes_of, faer_error, try_buffer, try_collect, try_vec, try_with_capacity};
 use crate::ordering::amd_permutation;
 use crate::{EigenError, Factorisation, FillOrdering, UnionPattern};
 
@@ -107,6 +109,7 @@ impl Lblt {
             }
             dcol_ptr.push(drow_idx.len());
         }
+        let pattern_bytes = (dcol_ptr.len() + drow_idx.len()) * size_of::<usize>();
         let symbolic = {
             let pattern =
                 SymbolicSparseColMatRef::new_checked(2 * n, 2 * n, &dcol_ptr, None, &drow_idx);
@@ -120,7 +123,7 @@ impl Lblt {
                     ..Default::default()
                 },
             )
-            .map_err(|e| faer_error(e, 0))?
+            .map_err(|e| faer_error(e, pattern_bytes))?
         };
         Ok(Self {
             col_ptr: dcol_ptr,
@@ -149,6 +152,19 @@ impl SparseFactor for Lblt {
     /// The stored values of the doubled real `L` (supernodes included), halved.
     fn fill_nnz(&self) -> usize {
         self.symbolic.len_val() / 2
+    }
+
+    /// Exact up to faer's alignment padding: at the peak of the factorisation the doubled
+    /// values, `L`, the 2x2 block subdiagonal, the pivot permutation and faer's
+    /// workspace; afterwards the probe solve (its two columns and workspace) while `L`
+    /// and the pivots stay.
+    fn estimated_factor_bytes(&self, par: Par) -> usize {
+        let n2 = self.col_ptr.len() - 1;
+        let (f, u) = (size_of::<f64>(), size_of::<usize>());
+        let held = self.symbolic.len_val() * f + n2 * f + 2 * n2 * u;
+        let factorising = self.source.len() * f + bytes_of(self.factor_scratch(par));
+        let probing = probe_bytes(n2 / 2) + bytes_of(self.solve_scratch(1, par));
+        held + factorising.max(probing)
     }
 
     fn factorize(

@@ -36,6 +36,7 @@ mod error;
 mod factor;
 mod lblt;
 mod lu;
+mod lu_memory;
 mod matrix_market;
 mod memory;
 pub mod model;

@@ -50,6 +50,12 @@ pub(crate) fn try_with_capacity<T>(capacity: usize) -> Result<Vec<T>, EigenError
     Ok(v)
 }
 
+/// Room for `additional` more values in `v`.
+pub(crate) fn try_reserve<T>(v: &mut Vec<T>, additional: usize) -> Result<(), EigenError> {
+    v.try_reserve(additional)
+        .map_err(|_| out_of_memory::<T>(v.len().saturating_add(additional)))
+}
+
 /// A vector of `len` copies of `value`.
 pub(crate) fn try_vec<T: Clone>(len: usize, value: T) -> Result<Vec<T>, EigenError> {
     let mut v = try_with_capacity(len)?;

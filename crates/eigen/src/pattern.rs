@@ -192,6 +192,11 @@ impl Transposed {
         SymbolicSparseColMatRef::new_checked(n, n, &self.col_ptr, None, &self.row_idx)
     }
 
+    /// Number of stored entries.
+    pub(crate) fn nnz(&self) -> usize {
+        self.row_idx.len()
+    }
+
     /// The values of the transpose of the matrix with values `vals` in the union pattern.
     pub(crate) fn values(&self, vals: &[c64]) -> Result<Vec<c64>, EigenError> {
         let mut at_vals = try_vec(vals.len(), c64::ZERO)?;

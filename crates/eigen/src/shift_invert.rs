@@ -172,6 +172,18 @@ impl<'p> ShiftInvert<'p> {
         self.factor.fill_nnz()
     }
 
+    /// Bytes the next numeric factorisation will allocate at its peak, known from the
+    /// symbolic analysis before anything is allocated: the values of `K - sigma M`, the
+    /// factor's values and indices (supernodal padding included), pivots, every
+    /// workspace, and the probe solve of the condition check
+    /// ([`SparseFactor::estimated_factor_bytes`]). For the first factorisation; later
+    /// ones reuse the factor's storage. Compare it with the memory available before
+    /// calling [`ShiftInvert::factor`].
+    pub fn estimated_factor_bytes(&self) -> usize {
+        self.pattern.nnz() * std::mem::size_of::<c64>()
+            + self.factor.estimated_factor_bytes(self.par)
+    }
+
     /// Wall time of the symbolic analysis, seconds.
     pub fn analysis_seconds(&self) -> f64 {
         self.analysis_seconds
