@@ -99,7 +99,7 @@ impl ShiftInvert<'_> {
         let lworkl_c = as_int(lworkl)?;
         as_int(n * ncv)?; // ARPACK indexes its n x ncv basis with default integers
 
-        let mut resid = start_vector(n, opts);
+        let mut resid = start_vector(n, opts)?;
         let mut v = try_vec(n * ncv, c64::ZERO)?;
         let mut workd = try_vec(3 * n, c64::ZERO)?;
         let mut workl = try_vec(lworkl, c64::ZERO)?;
@@ -225,7 +225,7 @@ impl ShiftInvert<'_> {
             let mut vector = z[j * n..(j + 1) * n].to_vec();
             normalise(&mut vector);
             let lambda = sigma + theta.inv();
-            let residual = relative_residual(pencil, lambda, &vector);
+            let residual = relative_residual(pencil, lambda, &vector)?;
             pairs.push(EigenPair {
                 lambda,
                 vector,

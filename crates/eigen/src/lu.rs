@@ -41,11 +41,9 @@ pub(crate) struct Lu {
     fill_nnz: usize,
     /// the memory one numeric factorisation needs, predicted by the analysis
     footprint: Footprint,
-    /// factors of the last successful factorisation; kept across shifts so that
+    /// factors of the last factorisation if it succeeded; kept across shifts so that
     /// refactorising reuses their storage
     numeric: Option<LuNumeric>,
-    /// whether `numeric` holds the factors of the last `factorize`
-    factored: bool,
 }
 
 #[derive(Debug)]
@@ -154,7 +152,6 @@ impl Lu {
             fill_nnz,
             footprint,
             numeric: None,
-            factored: false,
         })
     }
 
@@ -221,11 +218,12 @@ impl SparseFactor for Lu {
         a: SparseColMatRef<'_, usize, c64>,
         par: Par,
     ) -> Result<(), EigenError> {
-        self.factored = false;
+        // the previous factors lend their storage; dropped if this factorisation fails
+        let previous = self.numeric.take();
         let n = a.nrows();
         let at_vals = self.transposed.values(a.val())?;
         let at = SparseColMatRef::new(self.transposed.symbolic(), &at_vals);
-        let numeric = match self.numeric.take() {
+        let mut numeric = match previous {
             Some(numeric) => numeric,
             None => LuNumeric {
                 lu: Box::new(SupernodalLu::new()),
@@ -233,7 +231,6 @@ impl SparseFactor for Lu {
                 row_inv: try_vec(n, 0usize)?,
             },
         };
-        let numeric = self.numeric.insert(numeric);
         let params: Spec<PartialPivLuParams, c64> = Default::default();
         let req = factorize_supernodal_numeric_lu_scratch::<usize, c64>(&self.symbolic, params);
         let mut mem = try_buffer(req)?;
@@ -252,9 +249,10 @@ impl SparseFactor for Lu {
         )
         .map_err(|e| match e {
             LuError::SymbolicSingular { index } => EigenError::StructurallySingular { index },
-            LuError::Generic(g) => faer_error(g, bytes_of(req)),
+            // faer does not say which request failed
+            LuError::Generic(g) => faer_error(g, self.estimated_factor_bytes(par)),
         })?;
-        self.factored = true;
+        self.numeric = Some(numeric);
         Ok(())
     }
 
@@ -266,7 +264,6 @@ impl SparseFactor for Lu {
         let numeric = self
             .numeric
             .as_ref()
-            .filter(|_| self.factored)
             .expect("Lu::factorize must succeed first");
         let n = self.perm_fwd.len();
         numeric.lu.solve_in_place_with_conj(

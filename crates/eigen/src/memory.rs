@@ -2,10 +2,14 @@
 //! factors, workspaces, Krylov bases) is reserved with a fallible call, so running out of
 //! memory comes back as [`EigenError::OutOfMemory`] instead of aborting the process.
 //!
-//! faer's own sparse routines reserve their vectors with `try_reserve` and report
-//! `FaerError::OutOfMemory`; its workspaces are `MemBuffer`s that this crate allocates
-//! with `MemBuffer::try_new`. Only small fixed-size allocations inside faer's dense
-//! kernels (packing buffers of the matrix products) remain outside this scheme.
+//! faer's sparse factorisations reserve their vectors with `try_reserve` and report
+//! `FaerError::OutOfMemory`, mapped here to the same error; their workspaces are
+//! `MemBuffer`s that this crate allocates with `MemBuffer::try_new`. Checked by
+//! `tests/memory.rs`, which refuses allocations beyond a limit: every factorisation and
+//! every solve then ends in `OutOfMemory`, none aborts. Outside this scheme, in faer:
+//! COLAMD makes two `n`-vectors with `vec!` (after its workspace, which is larger and
+//! allocated here with `try_new`), and the dense product kernels reserve a fixed buffer
+//! of address space (about 1 GB, untouched) per thread at their first call.
 
 use faer::dyn_stack::{MemBuffer, StackReq};
 use faer::traits::ComplexField;

@@ -7,10 +7,10 @@ use std::time::Instant;
 use faer::dyn_stack::MemStack;
 use faer::matrix_free::eigen::{partial_eigen, partial_eigen_scratch, PartialEigenParams};
 use faer::sparse::linalg::matmul::sparse_dense_matmul;
-use faer::{c64, Accum, Col, Mat, Par};
+use faer::{c64, Accum, Par};
 
 use crate::factor::next_uniform;
-use crate::memory::{try_buffer, try_zeros};
+use crate::memory::{try_buffer, try_collect, try_zeros};
 use crate::{EigenError, FactorReport, FillOrdering, Pencil, ShiftInvert};
 
 /// Options of one shift-invert solve.
@@ -147,7 +147,7 @@ pub(crate) fn solve_near_with(
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
     let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     let mut spectrum = solve(&mut op, sigma, opts)?;
-    restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+    restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum)?;
     Ok(spectrum)
 }
 
@@ -182,7 +182,7 @@ pub fn solve_near_growing(
                 };
             }
         }
-        restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+        restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum)?;
         match more(&spectrum) {
             Some(count) if count > opts.count && opts.count < op.dim() => {
                 opts.count = count.min(op.dim())
@@ -199,12 +199,13 @@ fn restore_spectrum(
     scaled: &crate::scaling::Equilibrated,
     tol: f64,
     spectrum: &mut Spectrum,
-) {
-    restore_pairs(pencil, scaled, tol, &mut spectrum.pairs);
+) -> Result<(), EigenError> {
+    restore_pairs(pencil, scaled, tol, &mut spectrum.pairs)?;
     let failing = spectrum.pairs.iter().filter(|p| !p.converged).count();
     if failing > 0 && spectrum.status == Status::Converged {
         spectrum.status = Status::ResidualAboveTolerance { failing };
     }
+    Ok(())
 }
 
 /// Maps pairs of an equilibrated pencil back to `pencil`, with true residuals.
@@ -213,12 +214,13 @@ pub(crate) fn restore_pairs(
     scaled: &crate::scaling::Equilibrated,
     tol: f64,
     pairs: &mut [EigenPair],
-) {
+) -> Result<(), EigenError> {
     for p in pairs {
-        p.vector = scaled.restore(&p.vector);
-        p.residual = relative_residual(pencil, p.lambda, &p.vector);
+        p.vector = scaled.restore(&p.vector)?;
+        p.residual = relative_residual(pencil, p.lambda, &p.vector)?;
         p.converged = p.residual <= tol;
     }
+    Ok(())
 }
 
 impl<'p> ShiftInvert<'p> {
@@ -364,13 +366,17 @@ impl<'p> ShiftInvert<'p> {
         opts: &SolveOptions,
     ) -> Result<(Vec<EigenPair>, bool), EigenError> {
         let n = self.dim();
-        let start = start_vector(n, opts);
-        let v0 = Col::<c64>::from_fn(n, |i| start[i]);
+        let start = start_vector(n, opts)?;
+        let mut v0 = try_zeros::<c64>(n, 1)?;
+        for (i, &s) in start.iter().enumerate() {
+            v0[(i, 0)] = s;
+        }
+        let v0 = v0.col(0);
         // Scale of the operator's dominant eigenvalues: a few power steps. faer's locking
         // test is absolute, so the Krylov tolerance is taken relative to this scale.
         let mut x = try_zeros::<c64>(n, 1)?;
         let mut y = try_zeros::<c64>(n, 1)?;
-        x.col_mut(0).copy_from(&v0);
+        x.col_mut(0).copy_from(v0);
         let mut theta_scale = 0.0;
         for _ in 0..3 {
             let nx = x.norm_l2();
@@ -400,7 +406,7 @@ impl<'p> ShiftInvert<'p> {
             vecs.as_mut(),
             &mut vals,
             self,
-            v0.as_ref(),
+            v0,
             krylov_tol,
             par,
             MemStack::new(&mut mem),
@@ -413,12 +419,12 @@ impl<'p> ShiftInvert<'p> {
             if theta.norm() == 0.0 || !theta.norm().is_finite() {
                 continue;
             }
-            let mut v: Vec<c64> = vecs.col(j).iter().copied().collect();
+            let mut v = try_collect((0..n).map(|i| vecs[(i, j)]))?;
             normalise(&mut v);
             let lambda = sigma + theta.inv();
             let mut pair = EigenPair {
                 lambda,
-                residual: relative_residual(pencil, lambda, &v),
+                residual: relative_residual(pencil, lambda, &v)?,
                 vector: v,
                 converged: false,
             };
@@ -452,10 +458,10 @@ impl<'p> ShiftInvert<'p> {
             }
             let mut y = try_zeros::<c64>(n, 1)?;
             self.apply_to(y.as_mut(), x.as_ref())?;
-            let mut v: Vec<c64> = (0..n).map(|i| y[(i, 0)]).collect();
+            let mut v = try_collect((0..n).map(|i| y[(i, 0)]))?;
             normalise(&mut v);
-            let kx = mul(&pencil.k, &v);
-            let mx = mul(&pencil.m, &v);
+            let kx = mul(&pencil.k, &v)?;
+            let mx = mul(&pencil.m, &v)?;
             let denom = dot(&v, &mx);
             if denom.norm() == 0.0 {
                 return Ok(());
@@ -480,14 +486,14 @@ impl<'p> ShiftInvert<'p> {
 }
 
 /// The starting vector of a Krylov method: `opts.start`, or a fixed pseudo-random one.
-pub(crate) fn start_vector(n: usize, opts: &SolveOptions) -> Vec<c64> {
+pub(crate) fn start_vector(n: usize, opts: &SolveOptions) -> Result<Vec<c64>, EigenError> {
     match &opts.start {
-        Some(s) => s.clone(),
+        Some(s) => try_collect(s.iter().copied()),
         None => {
             let mut state = 0x2545_F491_4F6C_DD1Du64;
-            (0..n)
-                .map(|_| c64::new(next_uniform(&mut state), next_uniform(&mut state)))
-                .collect()
+            try_collect(
+                (0..n).map(|_| c64::new(next_uniform(&mut state), next_uniform(&mut state))),
+            )
         }
     }
 }
@@ -568,11 +574,12 @@ pub(crate) fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenEr
     Ok(())
 }
 
-/// `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)`.
-pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> f64 {
-    let kx = mul(&pencil.k, x);
-    let mx = mul(&pencil.m, x);
-    residual_from(&kx, &mx, lambda)
+/// `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)` (an error only when the two
+/// products cannot be allocated).
+pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> Result<f64, EigenError> {
+    let kx = mul(&pencil.k, x)?;
+    let mx = mul(&pencil.m, x)?;
+    Ok(residual_from(&kx, &mx, lambda))
 }
 
 pub(crate) fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
@@ -592,10 +599,14 @@ pub(crate) fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
     }
 }
 
-pub(crate) fn mul(a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]) -> Vec<c64> {
+/// `A x`.
+pub(crate) fn mul(
+    a: &faer::sparse::SparseColMat<usize, c64>,
+    x: &[c64],
+) -> Result<Vec<c64>, EigenError> {
     let n = x.len();
     let xm = faer::MatRef::from_column_major_slice(x, n, 1);
-    let mut y = Mat::<c64>::zeros(a.nrows(), 1);
+    let mut y = try_zeros::<c64>(a.nrows(), 1)?;
     sparse_dense_matmul(
         y.as_mut(),
         Accum::Replace,
@@ -604,7 +615,7 @@ pub(crate) fn mul(a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]) -> Vec<
         c64::ONE,
         Par::Seq,
     );
-    (0..a.nrows()).map(|i| y[(i, 0)]).collect()
+    try_collect((0..a.nrows()).map(|i| y[(i, 0)]))
 }
 
 /// `x^H y`.

@@ -104,7 +104,7 @@ pub fn solve_window(
     for sigma in window.shift_values() {
         let sigma = c64::new(sigma, 0.0);
         let mut spectrum = op.solve_near(sigma, opts)?;
-        crate::solve::restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs);
+        crate::solve::restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs)?;
         let radius = spectrum
             .pairs
             .iter()
