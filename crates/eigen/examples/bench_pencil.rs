@@ -111,11 +111,12 @@ fn main() {
     } else {
         helmholtz_p1_absorbing(cells)
     };
-    let (pencil, members) = if copies > 1 {
+    // with copies, the base pencil stays for the node-major ordering of one copy
+    let (pencil, coupled) = if copies > 1 {
         let (pencil, members) = coupled_copies(&base, copies, 100.0);
-        (pencil, Some(members))
+        (pencil, Some((base, members)))
     } else {
-        (base.clone(), None)
+        (base, None)
     };
     println!(
         "pencil: n = {}, nnz(K) = {}, nnz(M) = {}, built in {:.2} s",
@@ -127,7 +128,7 @@ fn main() {
 
     if compare_orderings {
         let mut orderings = vec![FillOrdering::AmdSymmetric, FillOrdering::Colamd];
-        if let Some(members) = &members {
+        if let Some((base, members)) = &coupled {
             let order_2d = amd_ordering(base.k.symbolic()).expect("AMD of one copy");
             let global = node_major_ordering(&order_2d, members).expect("node-major ordering");
             orderings.push(FillOrdering::Given(global));

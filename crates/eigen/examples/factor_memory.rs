@@ -55,12 +55,12 @@ fn main() {
         .map_or(1, |c| c.parse().expect("--copies C"));
     let ordering = args.value_of("--ordering").unwrap_or_else(|| "auto".into());
 
-    let (base, pencil, members) = if let Some(dir) = args.value_of("--read") {
+    // with copies, the base pencil stays for the node-major ordering of one copy
+    let (pencil, coupled) = if let Some(dir) = args.value_of("--read") {
         let dir = Path::new(&dir);
         let k = read_matrix_market(&dir.join("k.mtx")).expect("DIR/k.mtx");
         let m = read_matrix_market(&dir.join("m.mtx")).expect("DIR/m.mtx");
-        let pencil = Pencil::try_new(k, m).expect("a square pencil");
-        (pencil.clone(), pencil, None)
+        (Pencil::try_new(k, m).expect("a square pencil"), None)
     } else {
         let p1 = helmholtz_p1_absorbing(cells);
         let base = if args.has("--symmetric") {
@@ -70,9 +70,9 @@ fn main() {
         };
         if copies > 1 {
             let (pencil, members) = coupled_copies(&base, copies, 100.0);
-            (base, pencil, Some(members))
+            (pencil, Some((base, members)))
         } else {
-            (base.clone(), base, None)
+            (base, None)
         }
     };
     let ordering = match ordering.as_str() {
@@ -80,7 +80,7 @@ fn main() {
         "colamd" => Some(FillOrdering::Colamd),
         "amd" => Some(FillOrdering::AmdSymmetric),
         "node-major" => {
-            let members = members.as_ref().expect("node-major needs --copies");
+            let (base, members) = coupled.as_ref().expect("node-major needs --copies");
             let order_2d = amd_ordering(base.k.symbolic()).expect("AMD of one copy");
             Some(FillOrdering::Given(
                 node_major_ordering(&order_2d, members).expect("node-major ordering"),
@@ -88,7 +88,7 @@ fn main() {
         }
         other => panic!("unknown ordering {other}"),
     };
-    drop(base);
+    drop(coupled);
     if !args.has("--parallel") {
         faer::set_global_parallelism(faer::Par::Seq);
     }

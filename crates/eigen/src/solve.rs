@@ -263,7 +263,7 @@ impl<'p> ShiftInvert<'p> {
     }
 
     /// Krylov-Schur on the current factorisation (see [`ShiftInvert::factor`]).
-    pub fn solve_factored(
+    pub(crate) fn solve_factored(
         &self,
         requested_sigma: c64,
         report: &FactorReport,
