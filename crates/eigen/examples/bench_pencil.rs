@@ -3,21 +3,31 @@
 //! timed against scipy's shift-invert `eigs` on the same exported pencil.
 //!
 //! ```text
-//! cargo run --release -p twistmode-eigen --example bench_pencil -- [CELLS] [--no-scipy] [--orderings] [--symmetric]
+//! cargo run --release -p twistmode-eigen --example bench_pencil -- [CELLS] [--no-scipy] [--orderings] [--symmetric] [--copies C] [--write DIR]
 //! cargo run --release -p twistmode-eigen --features arpack --example bench_pencil -- [CELLS] --arpack
 //! ```
 //! `--arpack` (feature `arpack`) also runs ARPACK on the same shift-invert operator and
 //! compares its eigenvalues with ours. `--symmetric` uses the complex-symmetric part of
 //! the pencil instead (`model::symmetric_part`), which takes the symmetric factorisation;
-//! with `--orderings` the LU is timed on it too.
+//! with `--orderings` the LU is timed on it too. `--copies C` couples C copies of the
+//! pencil like neighbouring harmonics (`model::coupled_copies`); `--orderings` then adds
+//! the node-major ordering (AMD on one copy, expanded to all copies). `--write DIR` keeps
+//! the exported pencil as `DIR/k.mtx`, `DIR/m.mtx` (e.g. for the `factor_memory` example).
 //! CELLS = 501 gives 500^2 = 250 000 unknowns. Run from the workspace root (the scipy
 //! reference is `tools/eigs_reference.py`).
+
+#[path = "common/args.rs"]
+mod args;
 
 use std::process::Command;
 use std::time::Instant;
 
-use twistmode_eigen::model::{helmholtz_p1_absorbing, symmetric_part};
-use twistmode_eigen::{c64, write_matrix_market, FillOrdering, ShiftInvert, SolveOptions};
+use args::Args;
+use twistmode_eigen::model::{coupled_copies, helmholtz_p1_absorbing, symmetric_part};
+use twistmode_eigen::{
+    amd_ordering, c64, node_major_ordering, write_matrix_market, FillOrdering, ShiftInvert,
+    SolveOptions,
+};
 
 fn peak_memory_mib() -> f64 {
     std::fs::read_to_string("/proc/self/status")
@@ -82,20 +92,31 @@ fn arpack_cross_check(
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().skip(1).collect();
-    let cells: usize = args.iter().find_map(|a| a.parse().ok()).unwrap_or(501);
-    let with_scipy = !args.iter().any(|a| a == "--no-scipy");
-    let compare_orderings = args.iter().any(|a| a == "--orderings");
+    let args = Args::from_env();
+    let cells = args.size(&["--copies", "--write"]).unwrap_or(501);
+    let copies: usize = args
+        .value_of("--copies")
+        .map_or(1, |c| c.parse().expect("--copies C"));
+    let write_to = args.value_of("--write");
+    let with_scipy = !args.has("--no-scipy");
+    let compare_orderings = args.has("--orderings");
     let count = 10;
     let sigma = c64::new(2000.0, 0.0);
 
-    let symmetric = args.iter().any(|a| a == "--symmetric");
+    let symmetric = args.has("--symmetric");
     let t = Instant::now();
-    let pencil = if symmetric {
+    let base = if symmetric {
         // complex-symmetric variant: the symmetric factorisation is chosen
         symmetric_part(&helmholtz_p1_absorbing(cells))
     } else {
         helmholtz_p1_absorbing(cells)
+    };
+    // with copies, the base pencil stays for the node-major ordering of one copy
+    let (pencil, coupled) = if copies > 1 {
+        let (pencil, members) = coupled_copies(&base, copies, 100.0);
+        (pencil, Some((base, members)))
+    } else {
+        (base, None)
     };
     println!(
         "pencil: n = {}, nnz(K) = {}, nnz(M) = {}, built in {:.2} s",
@@ -106,11 +127,23 @@ fn main() {
     );
 
     if compare_orderings {
-        for ordering in [FillOrdering::AmdSymmetric, FillOrdering::Colamd] {
+        let mut orderings = vec![FillOrdering::AmdSymmetric, FillOrdering::Colamd];
+        if let Some((base, members)) = &coupled {
+            let order_2d = amd_ordering(base.k.symbolic()).expect("AMD of one copy");
+            let global = node_major_ordering(&order_2d, members).expect("node-major ordering");
+            orderings.push(FillOrdering::Given(global));
+        }
+        for ordering in orderings {
+            let node_major = matches!(ordering, FillOrdering::Given(_));
             let mut op = ShiftInvert::try_new_with_ordering(&pencil, ordering).unwrap();
             let r = op.factor(sigma).unwrap();
-            println!("ordering {:?}: fill nnz(L+U) = {} ({:.1} x pattern), analysis {:.2} s, factor {:.2} s",
-                ordering, op.fill_nnz(), op.fill_nnz() as f64 / op.pattern_nnz() as f64,
+            let name = if node_major {
+                "node-major (AMD on one copy)".to_string()
+            } else {
+                format!("{:?}", op.ordering())
+            };
+            println!("ordering {}: fill nnz(L+U) = {} ({:.1} x pattern), analysis {:.2} s, factor {:.2} s",
+                name, op.fill_nnz(), op.fill_nnz() as f64 / op.pattern_nnz() as f64,
                 op.analysis_seconds(), r.seconds);
         }
     }
@@ -135,17 +168,24 @@ fn main() {
             p.lambda.re, p.lambda.im, p.residual
         );
     }
-    if args.iter().any(|a| a == "--arpack") {
+    if args.has("--arpack") {
         arpack_cross_check(&mut op, sigma, &opts, &s.pairs);
     }
-    if !with_scipy {
+    if !with_scipy && write_to.is_none() {
         return;
     }
-    let dir = std::env::temp_dir().join(format!("twistmode-eigen-bench-{}", std::process::id()));
+    let dir = write_to.clone().map_or_else(
+        || std::env::temp_dir().join(format!("twistmode-eigen-bench-{}", std::process::id())),
+        std::path::PathBuf::from,
+    );
     std::fs::create_dir_all(&dir).unwrap();
     let (kp, mp) = (dir.join("k.mtx"), dir.join("m.mtx"));
     write_matrix_market(&kp, &pencil.k).unwrap();
     write_matrix_market(&mp, &pencil.m).unwrap();
+    if !with_scipy {
+        println!("pencil written to {} and {}", kp.display(), mp.display());
+        return;
+    }
     let out = Command::new("python3")
         .args([
             "tools/eigs_reference.py",
@@ -157,7 +197,9 @@ fn main() {
         ])
         .output()
         .expect("python3 tools/eigs_reference.py");
-    let _ = std::fs::remove_dir_all(&dir);
+    if write_to.is_none() {
+        let _ = std::fs::remove_dir_all(&dir);
+    }
     if !out.status.success() {
         eprintln!(
             "scipy reference failed:\n{}",

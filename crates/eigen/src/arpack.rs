@@ -25,8 +25,9 @@ use std::ffi::c_int;
 use std::sync::Mutex;
 
 use arpack_ng_sys::{__BindgenComplex, znaupd_c, zneupd_c};
-use faer::{c64, Mat, MatRef};
+use faer::{c64, MatRef};
 
+use crate::memory::{try_vec, try_zeros};
 use crate::solve::{normalise, relative_residual, solve_near_with, start_vector};
 use crate::{EigenError, EigenPair, Pencil, ShiftInvert, SolveOptions, Spectrum};
 
@@ -98,10 +99,10 @@ impl ShiftInvert<'_> {
         let lworkl_c = as_int(lworkl)?;
         as_int(n * ncv)?; // ARPACK indexes its n x ncv basis with default integers
 
-        let mut resid = start_vector(n, opts);
-        let mut v = vec![c64::ZERO; n * ncv];
-        let mut workd = vec![c64::ZERO; 3 * n];
-        let mut workl = vec![c64::ZERO; lworkl];
+        let mut resid = start_vector(n, opts)?;
+        let mut v = try_vec(n * ncv, c64::ZERO)?;
+        let mut workd = try_vec(3 * n, c64::ZERO)?;
+        let mut workl = try_vec(lworkl, c64::ZERO)?;
         let mut rwork = vec![0.0f64; ncv];
         let mut iparam: [c_int; 11] = [0; 11];
         iparam[0] = 1; // exact shifts
@@ -113,7 +114,7 @@ impl ShiftInvert<'_> {
         let (bmat, which) = (c"I", c"LM");
 
         let _guard = ARPACK_LOCK.lock().unwrap_or_else(|e| e.into_inner());
-        let mut x = Mat::<c64>::zeros(n, 1);
+        let mut x = try_zeros::<c64>(n, 1)?;
         loop {
             // SAFETY: every array has the length ARPACK's documentation requires for
             // these n, nev, ncv and lworkl; c64 and __BindgenComplex<f64> are both
@@ -144,7 +145,7 @@ impl ShiftInvert<'_> {
                     // y = OP x with x at workd[ipntr[0] - 1], y at workd[ipntr[1] - 1]
                     let (xi, yi) = (ipntr[0] as usize - 1, ipntr[1] as usize - 1);
                     let input = MatRef::from_column_major_slice(&workd[xi..xi + n], n, 1);
-                    self.apply_to(x.as_mut(), input);
+                    self.apply_to(x.as_mut(), input)?;
                     for i in 0..n {
                         workd[yi + i] = x[(i, 0)];
                     }
@@ -171,7 +172,7 @@ impl ShiftInvert<'_> {
 
         let select: Vec<c_int> = vec![0; ncv];
         let mut d = vec![c64::ZERO; want + 1];
-        let mut z = vec![c64::ZERO; n * want];
+        let mut z = try_vec(n * want, c64::ZERO)?;
         let mut workev = vec![c64::ZERO; 2 * ncv];
         let mut info_eupd: c_int = 0;
         // SAFETY: as above; `d` holds nev + 1 values, `z` n x nev, `workev` 2 ncv,
@@ -224,7 +225,7 @@ impl ShiftInvert<'_> {
             let mut vector = z[j * n..(j + 1) * n].to_vec();
             normalise(&mut vector);
             let lambda = sigma + theta.inv();
-            let residual = relative_residual(pencil, lambda, &vector);
+            let residual = relative_residual(pencil, lambda, &vector)?;
             pairs.push(EigenPair {
                 lambda,
                 vector,

@@ -42,7 +42,33 @@ pub enum EigenError {
         /// elimination step at which no pivot existed
         index: usize,
     },
-    /// faer reported an allocation or index failure.
+    /// An allocation failed (in this crate or inside faer's factorisation); the
+    /// operator's estimate of what a factorisation needs is
+    /// [`ShiftInvert::estimated_factor_bytes`](crate::ShiftInvert::estimated_factor_bytes).
+    #[error("out of memory: an allocation of {bytes} bytes failed")]
+    OutOfMemory {
+        /// bytes asked for (for a failure inside faer's factorisation, where the size of
+        /// the failing request is not reported, the estimated bytes of the whole
+        /// factorisation)
+        bytes: usize,
+    },
+    /// A caller-supplied permutation has the wrong length.
+    #[error("permutation of length {got} where {expected} was expected")]
+    PermutationLength {
+        /// length supplied
+        got: usize,
+        /// number of unknowns
+        expected: usize,
+    },
+    /// A caller-supplied permutation holds an index out of range or repeats one.
+    #[error("not a permutation: entry {position} is {value}, out of range or repeated")]
+    NotAPermutation {
+        /// position of the first bad entry
+        position: usize,
+        /// the entry there
+        value: usize,
+    },
+    /// faer reported an index overflow or another failure that is not memory.
     #[error("linear algebra backend failed: {0}")]
     Backend(String),
     /// An ARPACK routine returned a non-zero `info` (feature `arpack`; the codes are

@@ -165,3 +165,50 @@ pub fn symmetric_part(pencil: &Pencil) -> Pencil {
         m: half(&pencil.m),
     }
 }
+
+/// `copies` copies of a pencil coupled like neighbouring harmonics of a coupled-harmonic
+/// system: `K = I ⊗ K0 + C ⊗ M0`, `M = I ⊗ M0`, with `C` the `copies x copies` matrix
+/// holding `coupling` on its first off-diagonals. Unknown `u` of copy `c` is global
+/// unknown `u + n0 c` (copy-major). Returns the pencil and, for every unknown of the
+/// base pencil, its global unknowns in copy order (the `members` of
+/// [`node_major_ordering`](crate::node_major_ordering)).
+///
+/// Eigenvalues: `mu + 2 coupling cos(j pi / (copies + 1))`, `j = 1..copies`, for every
+/// eigenvalue `mu` of the base pencil (eigenvectors `q_j ⊗ x`: the Kronecker structure,
+/// Horn & Johnson, Topics in Matrix Analysis, Thm 4.4.5, with the eigenvalues of the
+/// tridiagonal Toeplitz `C`, e.g. Golub & Van Loan, Matrix Computations, sec. 4.8).
+pub fn coupled_copies(base: &Pencil, copies: usize, coupling: f64) -> (Pencil, Vec<Vec<usize>>) {
+    let n0 = base.dim();
+    let n = n0 * copies;
+    let entries = |a: &SparseColMat<usize, c64>| -> Vec<(usize, usize, c64)> {
+        let r = a.as_ref();
+        (0..n0)
+            .flat_map(|j| {
+                r.row_idx_of_col(j)
+                    .zip(r.val_of_col(j))
+                    .map(move |(i, v)| (i, j, *v))
+            })
+            .collect()
+    };
+    let (k0, m0) = (entries(&base.k), entries(&base.m));
+    let mut kt = Vec::with_capacity(copies * k0.len() + 2 * copies * m0.len());
+    let mut mt = Vec::with_capacity(copies * m0.len());
+    for c in 0..copies {
+        let at = |(i, j, v): (usize, usize, c64), d: usize| (i + n0 * c, j + n0 * d, v);
+        kt.extend(k0.iter().map(|&e| at(e, c)));
+        mt.extend(m0.iter().map(|&e| at(e, c)));
+        for d in [c.wrapping_sub(1), c + 1] {
+            if d < copies {
+                kt.extend(m0.iter().map(|&(i, j, v)| at((i, j, v * coupling), d)));
+            }
+        }
+    }
+    let members = (0..n0)
+        .map(|u| (0..copies).map(|c| u + n0 * c).collect())
+        .collect();
+    let pencil = Pencil {
+        k: sparse_from_triplets(n, n, &kt).expect("valid triplets"),
+        m: sparse_from_triplets(n, n, &mt).expect("valid triplets"),
+    };
+    (pencil, members)
+}

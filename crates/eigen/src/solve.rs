@@ -4,13 +4,14 @@
 use std::sync::atomic::Ordering as AtomicOrdering;
 use std::time::Instant;
 
-use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::dyn_stack::MemStack;
 use faer::matrix_free::eigen::{partial_eigen, partial_eigen_scratch, PartialEigenParams};
 use faer::sparse::linalg::matmul::sparse_dense_matmul;
-use faer::{c64, Accum, Col, Mat, Par};
+use faer::{c64, Accum, Par};
 
-use crate::shift_invert::next_uniform;
-use crate::{EigenError, FactorReport, Pencil, ShiftInvert};
+use crate::factor::next_uniform;
+use crate::memory::{try_buffer, try_collect, try_zeros};
+use crate::{EigenError, FactorReport, FillOrdering, Pencil, ShiftInvert};
 
 /// Options of one shift-invert solve.
 #[derive(Debug, Clone)]
@@ -27,6 +28,11 @@ pub struct SolveOptions {
     pub start: Option<Vec<c64>>,
     /// pairs with `|lambda|` below this are static (gradient) modes: counted, set aside
     pub static_below: f64,
+    /// `None`: the factorisation is chosen from the pencil (the symmetric `L B L^T` when
+    /// `K` and `M` are complex-symmetric, else the LU with COLAMD); `Some(ordering)`:
+    /// the LU with that fill-reducing ordering, whatever the pencil's symmetry (see
+    /// [`ShiftInvert::try_new_with_ordering`])
+    pub lu_ordering: Option<FillOrdering>,
 }
 
 impl Default for SolveOptions {
@@ -38,6 +44,7 @@ impl Default for SolveOptions {
             krylov_dim: None,
             start: None,
             static_below: 0.0,
+            lu_ordering: None,
         }
     }
 }
@@ -138,9 +145,9 @@ pub(crate) fn solve_near_with(
     solve: impl FnOnce(&mut ShiftInvert<'_>, c64, &SolveOptions) -> Result<Spectrum, EigenError>,
 ) -> Result<Spectrum, EigenError> {
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
-    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     let mut spectrum = solve(&mut op, sigma, opts)?;
-    restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+    restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum)?;
     Ok(spectrum)
 }
 
@@ -155,7 +162,7 @@ pub fn solve_near_growing(
     mut more: impl FnMut(&Spectrum) -> Option<usize>,
 ) -> Result<Spectrum, EigenError> {
     let scaled = crate::scaling::equilibrate(pencil, sigma.norm())?;
-    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     check_options(op.dim(), opts)?;
     let mut report = op.factor(sigma)?;
     let mut opts = opts.clone();
@@ -175,7 +182,7 @@ pub fn solve_near_growing(
                 };
             }
         }
-        restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum);
+        restore_spectrum(pencil, &scaled, opts.tol, &mut spectrum)?;
         match more(&spectrum) {
             Some(count) if count > opts.count && opts.count < op.dim() => {
                 opts.count = count.min(op.dim())
@@ -192,12 +199,13 @@ fn restore_spectrum(
     scaled: &crate::scaling::Equilibrated,
     tol: f64,
     spectrum: &mut Spectrum,
-) {
-    restore_pairs(pencil, scaled, tol, &mut spectrum.pairs);
+) -> Result<(), EigenError> {
+    restore_pairs(pencil, scaled, tol, &mut spectrum.pairs)?;
     let failing = spectrum.pairs.iter().filter(|p| !p.converged).count();
     if failing > 0 && spectrum.status == Status::Converged {
         spectrum.status = Status::ResidualAboveTolerance { failing };
     }
+    Ok(())
 }
 
 /// Maps pairs of an equilibrated pencil back to `pencil`, with true residuals.
@@ -206,15 +214,24 @@ pub(crate) fn restore_pairs(
     scaled: &crate::scaling::Equilibrated,
     tol: f64,
     pairs: &mut [EigenPair],
-) {
+) -> Result<(), EigenError> {
     for p in pairs {
-        p.vector = scaled.restore(&p.vector);
-        p.residual = relative_residual(pencil, p.lambda, &p.vector);
+        p.vector = scaled.restore(&p.vector)?;
+        p.residual = relative_residual(pencil, p.lambda, &p.vector)?;
         p.converged = p.residual <= tol;
     }
+    Ok(())
 }
 
-impl ShiftInvert<'_> {
+impl<'p> ShiftInvert<'p> {
+    /// The operator `opts` asks for: see [`SolveOptions::lu_ordering`].
+    pub(crate) fn for_options(pencil: &'p Pencil, opts: &SolveOptions) -> Result<Self, EigenError> {
+        match &opts.lu_ordering {
+            None => ShiftInvert::try_new(pencil),
+            Some(ordering) => ShiftInvert::try_new_with_ordering(pencil, ordering.clone()),
+        }
+    }
+
     /// Factorises at `sigma` (reusing the symbolic analysis) and finds the nearest pairs.
     pub fn solve_near(&mut self, sigma: c64, opts: &SolveOptions) -> Result<Spectrum, EigenError> {
         check_options(self.dim(), opts)?;
@@ -246,7 +263,7 @@ impl ShiftInvert<'_> {
     }
 
     /// Krylov-Schur on the current factorisation (see [`ShiftInvert::factor`]).
-    pub fn solve_factored(
+    pub(crate) fn solve_factored(
         &self,
         requested_sigma: c64,
         report: &FactorReport,
@@ -349,18 +366,22 @@ impl ShiftInvert<'_> {
         opts: &SolveOptions,
     ) -> Result<(Vec<EigenPair>, bool), EigenError> {
         let n = self.dim();
-        let start = start_vector(n, opts);
-        let v0 = Col::<c64>::from_fn(n, |i| start[i]);
+        let start = start_vector(n, opts)?;
+        let mut v0 = try_zeros::<c64>(n, 1)?;
+        for (i, &s) in start.iter().enumerate() {
+            v0[(i, 0)] = s;
+        }
+        let v0 = v0.col(0);
         // Scale of the operator's dominant eigenvalues: a few power steps. faer's locking
         // test is absolute, so the Krylov tolerance is taken relative to this scale.
-        let mut x = Mat::<c64>::zeros(n, 1);
-        let mut y = Mat::<c64>::zeros(n, 1);
-        x.col_mut(0).copy_from(&v0);
+        let mut x = try_zeros::<c64>(n, 1)?;
+        let mut y = try_zeros::<c64>(n, 1)?;
+        x.col_mut(0).copy_from(v0);
         let mut theta_scale = 0.0;
         for _ in 0..3 {
             let nx = x.norm_l2();
             x /= faer::Scale(c64::from(nx));
-            self.apply_to(y.as_mut(), x.as_ref());
+            self.apply_to(y.as_mut(), x.as_ref())?;
             theta_scale = y.norm_l2();
             std::mem::swap(&mut x, &mut y);
         }
@@ -378,15 +399,14 @@ impl ShiftInvert<'_> {
         };
         let krylov_tol = theta_scale * KRYLOV_RELATIVE_TOL;
         let par = Par::Seq;
-        let mut mem = MemBuffer::try_new(partial_eigen_scratch::<c64>(self, want, par, params))
-            .map_err(|_| EigenError::Backend("out of memory for the Krylov basis".into()))?;
-        let mut vecs = Mat::<c64>::zeros(n, want);
+        let mut mem = try_buffer(partial_eigen_scratch::<c64>(self, want, par, params))?;
+        let mut vecs = try_zeros::<c64>(n, want)?;
         let mut vals = vec![c64::ZERO; want];
         let info = partial_eigen(
             vecs.as_mut(),
             &mut vals,
             self,
-            v0.as_ref(),
+            v0,
             krylov_tol,
             par,
             MemStack::new(&mut mem),
@@ -399,16 +419,16 @@ impl ShiftInvert<'_> {
             if theta.norm() == 0.0 || !theta.norm().is_finite() {
                 continue;
             }
-            let mut v: Vec<c64> = vecs.col(j).iter().copied().collect();
+            let mut v = try_collect((0..n).map(|i| vecs[(i, j)]))?;
             normalise(&mut v);
             let lambda = sigma + theta.inv();
             let mut pair = EigenPair {
                 lambda,
-                residual: relative_residual(pencil, lambda, &v),
+                residual: relative_residual(pencil, lambda, &v)?,
                 vector: v,
                 converged: false,
             };
-            self.polish(&mut pair, opts.tol);
+            self.polish(&mut pair, opts.tol)?;
             pair.converged = pair.residual <= opts.tol;
             pairs.push(pair);
         }
@@ -425,26 +445,26 @@ impl ShiftInvert<'_> {
     /// less than 1e-6 of itself). Inverse iteration at the shift pulls every vector
     /// towards the eigenvector nearest the shift, so without that guard a pair far from
     /// the shift could turn into a copy of the nearest one.
-    fn polish(&self, pair: &mut EigenPair, tol: f64) {
+    fn polish(&self, pair: &mut EigenPair, tol: f64) -> Result<(), EigenError> {
         let n = self.dim();
         let pencil = self.pencil();
         for _ in 0..3 {
             if pair.residual <= tol * 1e-2 {
-                return;
+                return Ok(());
             }
-            let mut x = Mat::<c64>::zeros(n, 1);
+            let mut x = try_zeros::<c64>(n, 1)?;
             for i in 0..n {
                 x[(i, 0)] = pair.vector[i];
             }
-            let mut y = Mat::<c64>::zeros(n, 1);
-            self.apply_to(y.as_mut(), x.as_ref());
-            let mut v: Vec<c64> = (0..n).map(|i| y[(i, 0)]).collect();
+            let mut y = try_zeros::<c64>(n, 1)?;
+            self.apply_to(y.as_mut(), x.as_ref())?;
+            let mut v = try_collect((0..n).map(|i| y[(i, 0)]))?;
             normalise(&mut v);
-            let kx = mul(&pencil.k, &v);
-            let mx = mul(&pencil.m, &v);
+            let kx = mul(&pencil.k, &v)?;
+            let mx = mul(&pencil.m, &v)?;
             let denom = dot(&v, &mx);
             if denom.norm() == 0.0 {
-                return;
+                return Ok(());
             }
             let lambda = dot(&v, &kx) / denom;
             let res = residual_from(&kx, &mx, lambda);
@@ -458,21 +478,22 @@ impl ShiftInvert<'_> {
                     converged: false,
                 };
             } else {
-                return;
+                return Ok(());
             }
         }
+        Ok(())
     }
 }
 
 /// The starting vector of a Krylov method: `opts.start`, or a fixed pseudo-random one.
-pub(crate) fn start_vector(n: usize, opts: &SolveOptions) -> Vec<c64> {
+pub(crate) fn start_vector(n: usize, opts: &SolveOptions) -> Result<Vec<c64>, EigenError> {
     match &opts.start {
-        Some(s) => s.clone(),
+        Some(s) => try_collect(s.iter().copied()),
         None => {
             let mut state = 0x2545_F491_4F6C_DD1Du64;
-            (0..n)
-                .map(|_| c64::new(next_uniform(&mut state), next_uniform(&mut state)))
-                .collect()
+            try_collect(
+                (0..n).map(|_| c64::new(next_uniform(&mut state), next_uniform(&mut state))),
+            )
         }
     }
 }
@@ -553,11 +574,12 @@ pub(crate) fn check_options(n: usize, opts: &SolveOptions) -> Result<(), EigenEr
     Ok(())
 }
 
-/// `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)`.
-pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> f64 {
-    let kx = mul(&pencil.k, x);
-    let mx = mul(&pencil.m, x);
-    residual_from(&kx, &mx, lambda)
+/// `||K x - lambda M x|| / (||K x|| + |lambda| ||M x||)` (an error only when the two
+/// products cannot be allocated).
+pub fn relative_residual(pencil: &Pencil, lambda: c64, x: &[c64]) -> Result<f64, EigenError> {
+    let kx = mul(&pencil.k, x)?;
+    let mx = mul(&pencil.m, x)?;
+    Ok(residual_from(&kx, &mx, lambda))
 }
 
 pub(crate) fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
@@ -577,10 +599,14 @@ pub(crate) fn residual_from(kx: &[c64], mx: &[c64], lambda: c64) -> f64 {
     }
 }
 
-pub(crate) fn mul(a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]) -> Vec<c64> {
+/// `A x`.
+pub(crate) fn mul(
+    a: &faer::sparse::SparseColMat<usize, c64>,
+    x: &[c64],
+) -> Result<Vec<c64>, EigenError> {
     let n = x.len();
     let xm = faer::MatRef::from_column_major_slice(x, n, 1);
-    let mut y = Mat::<c64>::zeros(a.nrows(), 1);
+    let mut y = try_zeros::<c64>(a.nrows(), 1)?;
     sparse_dense_matmul(
         y.as_mut(),
         Accum::Replace,
@@ -589,7 +615,7 @@ pub(crate) fn mul(a: &faer::sparse::SparseColMat<usize, c64>, x: &[c64]) -> Vec<
         c64::ONE,
         Par::Seq,
     );
-    (0..a.nrows()).map(|i| y[(i, 0)]).collect()
+    try_collect((0..a.nrows()).map(|i| y[(i, 0)]))
 }
 
 /// `x^H y`.

@@ -97,14 +97,14 @@ pub fn solve_window(
     }
     // One equilibration (at the window's middle) serves every shift.
     let scaled = crate::scaling::equilibrate(pencil, 0.5 * (window.lo.abs() + window.hi.abs()))?;
-    let mut op = ShiftInvert::try_new(&scaled.pencil)?;
+    let mut op = ShiftInvert::for_options(&scaled.pencil, opts)?;
     let mut all: Vec<EigenPair> = Vec::new();
     let mut shifts = Vec::new();
     let mut static_dropped = 0;
     for sigma in window.shift_values() {
         let sigma = c64::new(sigma, 0.0);
         let mut spectrum = op.solve_near(sigma, opts)?;
-        crate::solve::restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs);
+        crate::solve::restore_pairs(pencil, &scaled, opts.tol, &mut spectrum.pairs)?;
         let radius = spectrum
             .pairs
             .iter()
