@@ -18,7 +18,7 @@
 use std::sync::atomic::{AtomicUsize, Ordering as AtomicOrdering};
 use std::time::Instant;
 
-use faer::dyn_stack::{MemStack, StackReq};
+use faer::dyn_stack::{MemBuffer, MemStack, StackReq};
 use faer::linalg::{temp_mat_scratch, temp_mat_zeroed};
 use faer::mat::AsMatMut;
 use faer::matrix_free::LinOp;
@@ -357,7 +357,16 @@ impl LinOp<c64> for ShiftInvert<'_> {
     }
 
     fn apply(&self, out: MatMut<'_, c64>, rhs: MatRef<'_, c64>, _par: Par, stack: &mut MemStack) {
-        self.apply_with(out, rhs, stack);
+        // faer sizes the workspace for one column, but its dense path for small
+        // problems applies the operator to a whole block: use the given stack when it
+        // is large enough, else a buffer of our own (a panic inside faer otherwise).
+        let need = self.solve_scratch(rhs.ncols());
+        if stack.can_hold(need) {
+            self.apply_with(out, rhs, stack);
+        } else {
+            let mut mem = MemBuffer::new(need);
+            self.apply_with(out, rhs, MemStack::new(&mut mem));
+        }
     }
 
     fn conj_apply(
@@ -367,7 +376,16 @@ impl LinOp<c64> for ShiftInvert<'_> {
         _par: Par,
         stack: &mut MemStack,
     ) {
-        // conj(A) x = conj(A conj(x))
+        // conj(A) x = conj(A conj(x)); workspace as in `apply`.
+        let need =
+            temp_mat_scratch::<c64>(rhs.nrows(), rhs.ncols()).and(self.solve_scratch(rhs.ncols()));
+        let mut own;
+        let stack = if stack.can_hold(need) {
+            stack
+        } else {
+            own = MemBuffer::new(need);
+            MemStack::new(&mut own)
+        };
         let (mut x, stack) = temp_mat_zeroed::<c64, _, _>(rhs.nrows(), rhs.ncols(), stack);
         let mut x = x.as_mat_mut();
         x.copy_from(rhs.conjugate());

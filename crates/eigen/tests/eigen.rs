@@ -501,3 +501,31 @@ fn node_major_ordering_forces_the_lu_and_finds_the_coupled_spectrum() {
         Err(EigenError::NotAPermutation { position: 5, .. })
     ));
 }
+
+#[test]
+fn a_pencil_smaller_than_the_krylov_basis_is_solved_on_the_dense_path() {
+    // faer's Krylov-Schur applies the operator to a whole block at once when the
+    // pencil is smaller than its basis; the workspace it offers is sized for one
+    // column, so the operator must bring its own (regression: a panic in the
+    // symmetric solve). Exact: Dirichlet Laplacian eigenvalues (model.rs).
+    let pencil = twistmode_eigen::model::laplacian_2d_dirichlet(5);
+    let exact = twistmode_eigen::model::laplacian_2d_dirichlet_eigenvalues(5);
+    let opts = twistmode_eigen::SolveOptions {
+        count: 3,
+        ..Default::default()
+    };
+    let s = twistmode_eigen::solve_near(
+        &pencil,
+        twistmode_eigen::c64::new(exact[0] * 0.9, 0.0),
+        &opts,
+    )
+    .unwrap();
+    assert_eq!(s.pairs.len(), 3);
+    for p in &s.pairs {
+        let d = exact
+            .iter()
+            .map(|e| (p.lambda.re - e).abs() / e)
+            .fold(f64::INFINITY, f64::min);
+        assert!(d < 1e-10 && p.residual < 1e-10, "{} ({d:e})", p.lambda);
+    }
+}

@@ -9,11 +9,6 @@ use crate::PipelineError;
 /// Bytes per stored complex entry.
 const COMPLEX: u64 = 16;
 
-/// Headroom on the symbolic fill: supernodal storage pads the structure, and the
-/// numeric factorisation needs workspace beside it (a factor 1.5, chosen above the
-/// padding measured on the demo and twisted pencils; see docs/performance.md).
-const FACTOR_HEADROOM: f64 = 1.5;
-
 /// What one factorisation would take.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct FactorEstimate {
@@ -21,7 +16,8 @@ pub struct FactorEstimate {
     pub unknowns: usize,
     /// Entries of the factor from the symbolic analysis.
     pub fill_nnz: usize,
-    /// Estimated bytes of the factorisation and the matrices it works on.
+    /// Estimated bytes of the factorisation (values, indices, supernodal padding,
+    /// workspace; `ShiftInvert::estimated_factor_bytes`) and of the two matrices.
     pub bytes: u64,
 }
 
@@ -82,7 +78,7 @@ pub fn estimate(pencil: &Pencil) -> Result<FactorEstimate, PipelineError> {
     Ok(FactorEstimate {
         unknowns: pencil.dim(),
         fill_nnz: op.fill_nnz(),
-        bytes: (op.fill_nnz() as f64 * COMPLEX as f64 * FACTOR_HEADROOM) as u64 + matrices,
+        bytes: op.estimated_factor_bytes() as u64 + matrices,
     })
 }
 
