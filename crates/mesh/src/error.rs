@@ -92,6 +92,14 @@ pub enum MeshError {
         /// What is wrong.
         reason: String,
     },
+    /// A mirror partner map does not describe a symmetry of the mesh.
+    #[error("mirror partner map rejected at node {node}: {reason}")]
+    MirrorPartners {
+        /// The first offending node.
+        node: u32,
+        /// What is wrong.
+        reason: String,
+    },
     /// File system error.
     #[error("I/O error on {path}: {message}")]
     Io {

@@ -229,6 +229,7 @@ pub struct Mesh {
     triangle_edges: Vec<[(EdgeId, i8); 3]>,
     boundary: Vec<BoundaryEdge>,
     pi_partners: Option<Vec<NodeId>>,
+    mirror_partners: Option<Vec<NodeId>>,
 }
 
 /// Inputs of [`Mesh::new`]: raw geometry before topology is derived.
@@ -337,6 +338,35 @@ impl Mesh {
         topology::quality(self)
     }
 
+    /// Checks that `partners` has one entry per node and is an involution; returns the
+    /// mesh's size (largest coordinate), the scale of the position tolerance.
+    fn check_involution(
+        &self,
+        partners: &[NodeId],
+        bad: &dyn Fn(usize, String) -> MeshError,
+    ) -> Result<f64, MeshError> {
+        if partners.len() != self.points.len() {
+            return Err(bad(
+                0,
+                format!(
+                    "{} partners for {} nodes",
+                    partners.len(),
+                    self.points.len()
+                ),
+            ));
+        }
+        for (i, p) in partners.iter().enumerate() {
+            if p.idx() >= partners.len() || partners[p.idx()].idx() != i {
+                return Err(bad(i, "the partner map is not an involution".into()));
+            }
+        }
+        Ok(self
+            .points
+            .iter()
+            .map(|p| p[0].abs().max(p[1].abs()))
+            .fold(0.0, f64::max))
+    }
+
     /// For a mesh invariant under rotation by pi about a centre (generated
     /// with `pi_symmetric`), `partners[i]` is the node at the rotated
     /// position of node `i`. The map is an involution; nodes on the cut line
@@ -368,26 +398,7 @@ impl Mesh {
             node: node as u32,
             reason,
         };
-        if partners.len() != self.points.len() {
-            return Err(bad(
-                0,
-                format!(
-                    "{} partners for {} nodes",
-                    partners.len(),
-                    self.points.len()
-                ),
-            ));
-        }
-        for (i, p) in partners.iter().enumerate() {
-            if p.idx() >= partners.len() || partners[p.idx()].idx() != i {
-                return Err(bad(i, "the partner map is not an involution".into()));
-            }
-        }
-        let scale = self
-            .points
-            .iter()
-            .map(|p| p[0].abs().max(p[1].abs()))
-            .fold(0.0, f64::max);
+        let scale = self.check_involution(&partners, &bad)?;
         let a = self.points[0];
         let b = self.points[partners[0].idx()];
         let centre = [0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1])];
@@ -449,6 +460,56 @@ impl Mesh {
             self.triangle_edges[j] = std::array::from_fn(|k| te[(k + shift) % 3]);
         }
         self.pi_partners = Some(partners);
+        Ok(self)
+    }
+
+    /// For a mesh invariant under the mirror `v -> 2 v_c - v` about a line
+    /// `v = v_c` (generated with `mirror_symmetric`), `partners[i]` is the node at
+    /// the mirrored position of node `i`; nodes on the line are their own partners.
+    /// `None` for meshes without this symmetry.
+    pub fn mirror_partner_nodes(&self) -> Option<&[NodeId]> {
+        self.mirror_partners.as_deref()
+    }
+
+    /// Attaches a mirror partner map (see [`Mesh::mirror_partner_nodes`]) after
+    /// checking it: one entry per node, an involution, partners at the mirrored
+    /// positions (relative tolerance 1e-9 of the mesh size), and the image of every
+    /// triangle a triangle of the same region.
+    pub fn try_with_mirror_partners(mut self, partners: Vec<NodeId>) -> Result<Mesh, MeshError> {
+        let bad = |node: usize, reason: String| MeshError::MirrorPartners {
+            node: node as u32,
+            reason,
+        };
+        let scale = self.check_involution(&partners, &bad)?;
+        let line = 0.5 * (self.points[0][1] + self.points[partners[0].idx()][1]);
+        for (i, p) in partners.iter().enumerate() {
+            let x = self.points[i];
+            let y = self.points[p.idx()];
+            let err = (x[0] - y[0]).hypot(x[1] + y[1] - 2.0 * line);
+            if err > 1e-9 * scale {
+                return Err(bad(
+                    i,
+                    format!("the partner is {err:.3e} m away from the mirrored position"),
+                ));
+            }
+        }
+        let mut tris = std::collections::HashMap::new();
+        for t in &self.triangles {
+            let mut v = t.vertices();
+            v.sort_unstable();
+            tris.insert(v, t.region);
+        }
+        for t in &self.triangles {
+            let mut image = t.vertices().map(|n| partners[n.idx()]);
+            image.sort_unstable();
+            if tris.get(&image) != Some(&t.region) {
+                return Err(bad(
+                    t.nodes[0].idx(),
+                    "the mirror image of a triangle is not a triangle of the same region".into(),
+                ));
+            }
+        }
+        self.mirror_partners = Some(partners);
         Ok(self)
     }
 }

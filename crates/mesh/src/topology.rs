@@ -168,6 +168,7 @@ pub(crate) fn build(parts: MeshParts) -> Result<Mesh, MeshError> {
         triangle_edges,
         boundary,
         pi_partners: None,
+        mirror_partners: None,
     })
 }
 

@@ -556,6 +556,104 @@ fn pi_symmetric_meshes_are_symmetric() {
     assert_pi_symmetric(&generate(&spec).unwrap(), centre);
 }
 
+/// Exact geometry: a mesh made of a quarter, its mirror image and the rotated half is
+/// invariant under both mirrors through the centre, node by node.
+#[test]
+fn mirror_symmetric_meshes_are_symmetric_under_both_mirrors() {
+    let centre = [0.4e-6, -0.2e-6];
+    // An octagon with no vertex on either axis through its centre (the cut stays at 0).
+    let octagon: Vec<[f64; 2]> = (0..8)
+        .map(|k| {
+            let a = PI / 8.0 + PI / 4.0 * k as f64;
+            [0.6e-6 * a.cos(), 0.4e-6 * a.sin()]
+        })
+        .collect();
+    // A hexagon with vertices on the horizontal axis: no quarter without a vertex on its cut.
+    let hexagon: Vec<[f64; 2]> = (0..6)
+        .map(|k| {
+            let a = PI / 3.0 * k as f64;
+            [0.6e-6 * a.cos(), 0.6e-6 * a.sin()]
+        })
+        .collect();
+    let shapes = [
+        (
+            DomainKind::Disc,
+            SectionShape::Rectangle {
+                width: 1.2e-6,
+                thickness: 0.3e-6,
+                corner_radius: 0.05e-6,
+            },
+        ),
+        (
+            DomainKind::Box,
+            SectionShape::Ellipse {
+                a: 0.9e-6,
+                b: 0.5e-6,
+            },
+        ),
+        (
+            DomainKind::Disc,
+            SectionShape::Polygon { vertices: octagon },
+        ),
+    ];
+    for (domain, shape) in shapes {
+        for order in [GeometryOrder::Linear, GeometryOrder::Quadratic] {
+            let mut spec = GeneratorSpec::new(
+                domain,
+                body(shape.clone(), centre, 0.1e-6),
+                medium(0.5e-6, 0.3e-6, 0.25e-6),
+            );
+            spec.pi_symmetric = true;
+            spec.mirror_symmetric = true;
+            spec.order = order;
+            let mesh = generate(&spec).unwrap_or_else(|e| panic!("{shape:?}: {e}"));
+            assert_pi_symmetric(&mesh, centre);
+            let mirror = mesh.mirror_partner_nodes().expect("mirror partner map");
+            let scale = 1e-6;
+            let mut on_line = 0;
+            for (i, p) in mesh.points().iter().enumerate() {
+                let q = mesh.points()[mirror[i].idx()];
+                assert!((p[0] - q[0]).abs() <= 1e-14 * scale, "node {i}");
+                assert!(
+                    (p[1] + q[1] - 2.0 * centre[1]).abs() <= 1e-14 * scale,
+                    "node {i}"
+                );
+                assert_eq!(mirror[mirror[i].idx()], NodeId(i as u32));
+                on_line += usize::from(mirror[i].idx() == i);
+            }
+            // Nodes on the mirror line are their own images; there are some (the line
+            // crosses the whole domain), and far fewer than all.
+            assert!(
+                on_line > 4 && on_line < mesh.points().len() / 4,
+                "{on_line}"
+            );
+            // Every triangle has positive area and the areas add up as for the plain mesh.
+            for t in 0..mesh.triangles().len() {
+                assert!(mesh.triangle_area(t) > 0.0, "{shape:?}: triangle {t}");
+            }
+            let mut plain = spec.clone();
+            plain.mirror_symmetric = false;
+            println!(
+                "{shape:?} {order:?}: mirrored {}; plain {}",
+                mesh.quality(),
+                generate(&plain).unwrap().quality()
+            );
+            assert!(mesh.quality().min_angle_deg > 10.0, "{}", mesh.quality());
+        }
+    }
+    // A polygon with vertices on a mirror line cannot be cut into quarters.
+    let mut spec = GeneratorSpec::new(
+        DomainKind::Disc,
+        body(SectionShape::Polygon { vertices: hexagon }, centre, 0.1e-6),
+        medium(0.5e-6, 0.3e-6, 0.25e-6),
+    );
+    spec.pi_symmetric = true;
+    spec.mirror_symmetric = true;
+    expect_geometry_error(&spec, "mirror_symmetric", "on the mirror lines");
+    spec.pi_symmetric = false;
+    expect_geometry_error(&spec, "mirror_symmetric", "set pi_symmetric");
+}
+
 #[test]
 fn sizes_follow_max_edge_and_angles_stay_reasonable() {
     let mesh = generate(&disc_spec(GeometryOrder::Linear)).unwrap();
@@ -741,6 +839,7 @@ fn section_touching_the_axis_up_to_round_off_has_no_slivers() {
             surroundings: Surroundings::None,
             order: GeometryOrder::Quadratic,
             pi_symmetric: false,
+            mirror_symmetric: false,
             upper_half_only: false,
             min_angle_deg: 28.0,
         };

@@ -38,6 +38,8 @@ const MAX_TRIANGLES: f64 = 4.0e6;
 const LINE_AXIS: usize = 0;
 const LINE_MIDPLANE: usize = 1;
 const LINE_CUT: usize = 2;
+/// The mirror line `u = 0` of the working frame (mirror-symmetric meshes).
+const LINE_MIRROR: usize = 3;
 
 fn geometry(field: &str, reason: impl Into<String>) -> MeshError {
     MeshError::Geometry {
@@ -140,6 +142,12 @@ fn validate(spec: &GeneratorSpec) -> Result<(), MeshError> {
         return Err(geometry(
             "upper_half_only",
             "only a HalfPlane domain can be cut at z = 0",
+        ));
+    }
+    if spec.mirror_symmetric && !spec.pi_symmetric {
+        return Err(geometry(
+            "mirror_symmetric",
+            "a mirror-symmetric mesh is built from a pi-symmetric one; set pi_symmetric too",
         ));
     }
     if spec.pi_symmetric && spec.domain == DomainKind::HalfPlane {
@@ -256,7 +264,7 @@ fn polygon_pieces(p: &[P2]) -> Vec<Piece> {
 
 /// Angle of the cut line for a pi-symmetric polygon: one that avoids the
 /// vertices, so that the cut crosses edges transversally.
-fn cut_angle(shape: &SectionShape) -> Result<f64, MeshError> {
+fn cut_angle(shape: &SectionShape, mirror: bool) -> Result<f64, MeshError> {
     let SectionShape::Polygon { vertices } = shape else {
         return Ok(0.0);
     };
@@ -264,12 +272,14 @@ fn cut_angle(shape: &SectionShape) -> Result<f64, MeshError> {
         .iter()
         .map(|p| p[0].hypot(p[1]))
         .fold(0.0, f64::max);
+    let has_vertex_at = |q: P2| {
+        vertices
+            .iter()
+            .any(|w| (w[0] - q[0]).hypot(w[1] - q[1]) <= 1e-9 * scale)
+    };
     for v in vertices {
         let partner = [-v[0], -v[1]];
-        if !vertices
-            .iter()
-            .any(|w| (w[0] - partner[0]).hypot(w[1] - partner[1]) <= 1e-9 * scale)
-        {
+        if !has_vertex_at(partner) {
             return Err(geometry(
                 "pi_symmetric",
                 format!(
@@ -278,6 +288,29 @@ fn cut_angle(shape: &SectionShape) -> Result<f64, MeshError> {
                 ),
             ));
         }
+    }
+    if mirror {
+        // Both working axes are mirror lines and must avoid the vertices.
+        let scale_ok = |p: P2| p[0].abs() > 1e-3 * scale && p[1].abs() > 1e-3 * scale;
+        for v in vertices {
+            if !has_vertex_at([v[0], -v[1]]) {
+                return Err(geometry(
+                    "mirror_symmetric",
+                    format!(
+                        "the polygon is not invariant under v -> -v: vertex ({:e}, {:e}) has no partner",
+                        v[0], v[1]
+                    ),
+                ));
+            }
+        }
+        // (Turning the frame by pi/2 would not help: it swaps the two lines.)
+        if vertices.iter().all(|v| scale_ok(*v)) {
+            return Ok(0.0);
+        }
+        return Err(geometry(
+            "mirror_symmetric",
+            "the polygon has vertices on the mirror lines through its centre; mesh it without the mirror",
+        ));
     }
     let candidates = [0.0, FRAC_PI_2, 0.3, 0.7, 1.1, 1.9, 2.3, 2.7];
     for &a in &candidates {
@@ -309,7 +342,7 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
     let (origin, angle) = if half_plane {
         ([0.0, 0.0], 0.0)
     } else if spec.pi_symmetric {
-        (body.centre, cut_angle(&body.shape)?)
+        (body.centre, cut_angle(&body.shape, spec.mirror_symmetric)?)
     } else {
         (body.centre, 0.0)
     };
@@ -473,6 +506,8 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
             v.push((1, LINE_MIDPLANE));
         }
         v
+    } else if spec.mirror_symmetric {
+        vec![(1, LINE_CUT), (0, LINE_MIRROR)]
     } else if spec.pi_symmetric {
         vec![(1, LINE_CUT)]
     } else {
@@ -599,7 +634,7 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
                     "boundary edge {a}-{b} lies on no input curve (internal error)"
                 ))
             })?;
-        if info.line == Some(LINE_CUT) {
+        if info.line == Some(LINE_CUT) || info.line == Some(LINE_MIRROR) {
             continue;
         }
         boundary.push(([NodeId(a), NodeId(b)], info.line));
@@ -623,6 +658,34 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
                 });
                 t.nodes[3 + k] = m;
             }
+        }
+    }
+
+    // Mirrored copy of the quarter (u -> -u in the working frame), orientation restored.
+    if spec.mirror_symmetric {
+        let n_quarter = points.len();
+        let mut image = vec![NodeId(0); n_quarter];
+        for (i, slot) in image.iter_mut().enumerate() {
+            let p = points[i];
+            *slot = if p[0] == 0.0 {
+                NodeId(i as u32)
+            } else {
+                points.push([-p[0] + 0.0, p[1]]);
+                NodeId((points.len() - 1) as u32)
+            };
+        }
+        let quarter = triangles.len();
+        for t in 0..quarter {
+            let n = triangles[t].nodes.map(|n| image[n.idx()]);
+            triangles.push(Triangle {
+                nodes: [n[0], n[2], n[1], n[5], n[4], n[3]],
+                region: triangles[t].region,
+            });
+        }
+        let quarter_boundary = boundary.len();
+        for b in 0..quarter_boundary {
+            let ([a, c], tag) = boundary[b];
+            boundary.push(([image[c.idx()], image[a.idx()]], tag));
         }
     }
 
@@ -673,6 +736,34 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
         partners = Some(partner);
     }
 
+    // The mirror v -> -v of the domain frame, found in the working frame (exact:
+    // every image point was made by negating coordinates).
+    let mirror_partners = if spec.mirror_symmetric {
+        let index: HashMap<(u64, u64), u32> = points
+            .iter()
+            .enumerate()
+            .map(|(i, p)| (((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits()), i as u32))
+            .collect();
+        // The working frame is the domain frame shifted to the centre (angle 0).
+        let flip = |p: P2| -> P2 { [p[0] + 0.0, -p[1] + 0.0] };
+        let mut m = Vec::with_capacity(points.len());
+        for (i, p) in points.iter().enumerate() {
+            let q = flip(*p);
+            let j = index
+                .get(&(q[0].to_bits(), q[1].to_bits()))
+                .ok_or_else(|| {
+                    MeshError::Triangulation(format!(
+                        "node {i} at ({:e}, {:e}) has no mirror image (internal error)",
+                        p[0], p[1]
+                    ))
+                })?;
+            m.push(NodeId(*j));
+        }
+        Some(m)
+    } else {
+        None
+    };
+
     // Back to the domain frame.
     for p in points.iter_mut() {
         let r = rotate(*p, angle);
@@ -714,8 +805,12 @@ pub(crate) fn build(spec: &GeneratorSpec, max_turn: f64) -> Result<Mesh, MeshErr
             pml,
         }),
     })?;
-    match partners {
-        Some(p) => mesh.try_with_pi_partners(p),
+    let mesh = match partners {
+        Some(p) => mesh.try_with_pi_partners(p)?,
+        None => mesh,
+    };
+    match mirror_partners {
+        Some(p) => mesh.try_with_mirror_partners(p),
         None => Ok(mesh),
     }
 }

@@ -35,7 +35,9 @@ use crate::{Mesh, MeshError};
 ///   more finely and the mesh is rebuilt (up to three times).
 /// - With `pi_symmetric`, the half `v >= v_c` (in a frame turned so that the
 ///   cut line avoids polygon vertices) is meshed and rotated by pi about the
-///   body centre; see [`Mesh::pi_partner_nodes`].
+///   body centre; see [`Mesh::pi_partner_nodes`]. With `mirror_symmetric` too,
+///   the quarter `u >= 0, v >= 0` of that frame is meshed and mirrored first; see
+///   [`Mesh::mirror_partner_nodes`].
 ///
 /// Errors: [`MeshError::Geometry`] for bad input (naming the field),
 /// [`MeshError::Triangulation`] when the triangulator fails.
@@ -67,6 +69,7 @@ impl GeneratorSpec {
             surroundings,
             order: crate::GeometryOrder::Linear,
             pi_symmetric: false,
+            mirror_symmetric: false,
             upper_half_only: false,
             min_angle_deg: Self::DEFAULT_MIN_ANGLE_DEG,
         }
@@ -148,6 +151,11 @@ pub struct GeneratorSpec {
     /// Make the mesh invariant under rotation by pi about the body centre
     /// (mesh half and rotate the copy). Only for Disc and Box domains.
     pub pi_symmetric: bool,
+    /// With `pi_symmetric`: make the mesh also invariant under the mirror
+    /// `v -> -v` about the body centre (mesh a quarter, mirror it, rotate the half
+    /// by pi); see [`Mesh::mirror_partner_nodes`]. The section must have both mirror
+    /// lines through its centre along the axes, and a polygon no vertex on them.
+    pub mirror_symmetric: bool,
     /// HalfPlane only: mesh only `z >= 0` and tag `z = 0` as `midplane`.
     pub upper_half_only: bool,
     /// Smallest interior angle the refinement aims for, degrees (about 25-30).
