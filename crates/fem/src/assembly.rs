@@ -224,6 +224,12 @@ impl<'m> SectionProblem<'m> {
     pub fn set_quadrature_degree(&mut self, degree: usize) {
         self.rule = TriangleRule::collapsed_gauss(degree);
     }
+    /// Makes the quadrature rule invariant under exchanging reference vertices 1 and 2
+    /// ([`TriangleRule::swap_symmetrised`]), for meshes whose mirror-image triangles are
+    /// numbered that way.
+    pub fn symmetrise_quadrature(&mut self) {
+        self.rule = self.rule.swap_symmetrised();
+    }
 
     /// Name of the axis tag when the axis conditions apply (revolution bodies).
     fn axis_tag(&self) -> Option<&'static str> {

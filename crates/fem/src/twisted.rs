@@ -128,6 +128,22 @@ impl BlockSystem {
         self.blocks.iter().map(|b| b.len).sum()
     }
 
+    /// Moves the stored matrices out (for an eigensolver that takes them by value), leaving
+    /// empty `0 x 0` matrices; the blocks, reductions and signs stay for reading
+    /// eigenvectors. Saves holding a second copy of the pencil through the solve.
+    pub fn take_matrices(&mut self) -> (SparseColMat<usize, c64>, SparseColMat<usize, c64>) {
+        let empty = || {
+            SparseColMat::new(
+                SymbolicSparseColMat::new_checked(0, 0, vec![0], None, Vec::new()),
+                Vec::new(),
+            )
+        };
+        (
+            std::mem::replace(&mut self.stiffness, empty()),
+            std::mem::replace(&mut self.mass, empty()),
+        )
+    }
+
     /// The solution `x` of `(K, M)` from an eigenvector `y` of the stored pencil
     /// (`x = D y` when the stored pencil is the mirrored one).
     pub fn unmirror(&self, y: &[c64]) -> Vec<c64> {
@@ -281,6 +297,13 @@ impl<'m> TwistedRing<'m> {
         })
     }
 
+    /// The ring with the mirror-symmetrised quadrature rule of [`TwistedRing::with_mirror`]
+    /// but without the mirror: the plain pencil on the same integrals (for comparisons).
+    pub fn with_symmetric_quadrature(mut self) -> TwistedRing<'m> {
+        self.problem.symmetrise_quadrature();
+        self
+    }
+
     /// Sets up the mirror `v -> -v` (`mirror_nodes`: the image of every node) so that
     /// block systems can be made complex-symmetric ([`TwistedRing::block_system`] with
     /// `symmetric`): the face functions are relabelled so that mirror images match,
@@ -289,6 +312,9 @@ impl<'m> TwistedRing<'m> {
         mut self,
         mirror_nodes: &[twistmode_mesh::NodeId],
     ) -> Result<TwistedRing<'m>, FemError> {
+        // Mirror-image triangles are integrated at mirrored points (generated meshes
+        // number an image with reference vertices 1 and 2 exchanged).
+        self.problem.symmetrise_quadrature();
         let mesh = self.problem.mesh();
         let labels = mirror_face_labels(mesh, mirror_nodes)?;
         self.numbering = self.problem.dofs(0.0)?.with_face_labels(labels);
