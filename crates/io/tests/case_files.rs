@@ -550,6 +550,35 @@ fn twist_and_order_rules() {
         "physical sector",
         "remove mesh.pi_symmetric",
     );
+    // The mirror-symmetric mesh is opt-in, for twisted rings with both mirrors.
+    let twisted = ring_with(&["body.half_turns=1", "search.m=2.5"]).unwrap();
+    assert!(twisted.mesh.pi_symmetric && !twisted.mesh.mirror_symmetric);
+    assert!(ring_with(&[
+        "body.half_turns=1",
+        "search.m=2.5",
+        "mesh.mirror_symmetric=true"
+    ])
+    .is_ok_and(|c| c.mesh.mirror_symmetric));
+    assert_refused(
+        ring_with(&["mesh.mirror_symmetric=true"]),
+        "mesh.mirror_symmetric",
+        "serves twisted rings",
+        "remove mesh.mirror_symmetric",
+    );
+    let text = RING.replace(
+        "shape = \"rectangle\"\nwidth = 8.0\nthickness = 3.0\n",
+        "shape = \"polygon\"\n",
+    );
+    let sets: Vec<(String, String)> = [triangle, "body.half_turns=2", "mesh.mirror_symmetric=true"]
+        .iter()
+        .map(|s| twistmode_io::case::parse_set_argument(s).unwrap())
+        .collect();
+    assert_refused(
+        Case::from_toml_str(&text, &sets),
+        "mesh.mirror_symmetric",
+        "symmetric under v -> -v and u -> -u",
+        "remove mesh.mirror_symmetric",
+    );
     // Either handedness: a negative count is the mirror image.
     assert!(poly("body.half_turns=-2").is_ok());
     assert_refused(

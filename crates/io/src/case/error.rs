@@ -92,6 +92,7 @@ pub(crate) const KEY_HELP: &[(&str, &str)] = &[
         "a positive number (elements per local wavelength)",
     ),
     ("mesh.pi_symmetric", "true or false"),
+    ("mesh.mirror_symmetric", "true or false"),
     ("search.m", "a whole number, or a half-integer such as 2.5"),
     ("search.beta", "a number, radians per units.length"),
     (

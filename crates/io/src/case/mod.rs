@@ -200,6 +200,9 @@ pub struct MeshSettings {
     pub resolution: f64,
     /// Mesh half the section and rotate the copy by pi.
     pub pi_symmetric: bool,
+    /// With `pi_symmetric`: mesh a quarter and mirror it first, so the mesh is also
+    /// invariant under `v -> -v` (twisted-ring pencils become complex-symmetric).
+    pub mirror_symmetric: bool,
 }
 
 /// Which modes to look for.
@@ -433,6 +436,7 @@ impl Case {
             surroundings,
             order: self.mesh.order,
             pi_symmetric: self.mesh.pi_symmetric,
+            mirror_symmetric: self.mesh.mirror_symmetric,
             upper_half_only: self.midplane != Midplane::None,
             min_angle_deg: MIN_ANGLE_DEG,
         })

@@ -116,6 +116,7 @@ pub(crate) struct RawMesh {
     pub order: Option<u8>,
     pub resolution: Option<f64>,
     pub pi_symmetric: Option<bool>,
+    pub mirror_symmetric: Option<bool>,
 }
 
 /// `search.harmonics`: a window half-width, or the word "auto".
