@@ -15,7 +15,18 @@ use crate::{MeshFacts, PipelineError};
 pub fn build_mesh(case: &Case) -> Result<(Mesh, MeshFacts), PipelineError> {
     let start = Instant::now();
     let mesh = match case.mesh_source()? {
-        MeshSource::Generate(spec) => twistmode_mesh::generate(&spec)?,
+        MeshSource::Generate(spec) => match twistmode_mesh::generate(&spec) {
+            // A polygon with vertices on both mirror lines cannot be cut into quarters;
+            // the pi-symmetric mesh still serves (a general, not symmetric, pencil).
+            Err(twistmode_mesh::MeshError::Geometry { field, .. })
+                if spec.mirror_symmetric && field == "mirror_symmetric" =>
+            {
+                let mut plain = spec.clone();
+                plain.mirror_symmetric = false;
+                twistmode_mesh::generate(&plain)?
+            }
+            other => other?,
+        },
         MeshSource::Gmsh {
             path,
             metres_per_unit,

@@ -65,6 +65,8 @@ struct SectorSearch<'a, 'm> {
     ring: &'a TwistedRing<'m>,
     parts: &'a AssembledParts,
     drop_below: f64,
+    /// Solve the complex-symmetric (mirror-adapted) pencil.
+    symmetric: bool,
     sigma: Complex64,
     count: usize,
     tolerance: f64,
@@ -79,11 +81,12 @@ impl SectorSearch<'_, '_> {
         sector: Option<f64>,
     ) -> Result<SectorSolve, PipelineError> {
         let start = Instant::now();
-        let system = self
-            .ring
-            .block_system(self.parts, window, sector, self.drop_below, false)?;
+        let mut system =
+            self.ring
+                .block_system(self.parts, window, sector, self.drop_below, self.symmetric)?;
         let assembled = start.elapsed().as_secs_f64();
-        let pencil = Pencil::try_new(system.stiffness.clone(), system.mass.clone())?;
+        let (stiffness, mass) = system.take_matrices();
+        let pencil = Pencil::try_new(stiffness, mass)?;
         crate::budget::check(
             &pencil,
             self.budget,
@@ -322,7 +325,14 @@ pub fn solve_twisted(
     let (mesh, mesh_facts) = build_mesh(case)?;
     let setup = set_up(case, &mesh)?;
     let start = Instant::now();
-    let ring = TwistedRing::try_new(&mesh, setup)?;
+    let mut ring = TwistedRing::try_new(&mesh, setup)?;
+    let symmetric = match mesh.mirror_partner_nodes() {
+        Some(mirror) => {
+            ring = ring.with_mirror(mirror)?;
+            true
+        }
+        None => false,
+    };
     let (k_start, k_last) = match case.search.max_harmonics {
         Some(max) => (case.search.harmonics.min(max), max),
         None => (case.search.harmonics, case.search.harmonics),
@@ -348,6 +358,7 @@ pub fn solve_twisted(
         ring: &ring,
         parts: &parts,
         drop_below: DROP_FRACTION * case.search.harmonic_tolerance,
+        symmetric,
         sigma,
         count: pairs_for(case.search.count),
         tolerance: settings.tolerance,
