@@ -841,9 +841,9 @@ fn mesh_settings(raw: &RawMesh, body: &Body, section: &Section) -> Result<MeshSe
             shape::is_mirror_symmetric_in_v(s) && shape::is_mirror_symmetric_in_u(s)
         });
     let mirror_symmetric = match raw.mirror_symmetric {
-        // Opt-in: measured on the example band, the symmetric factor is 3-7x smaller
+        // Opt-in: measured on the example band, the symmetric factor is 3-9x smaller
         // but the mirror-adapted assembly and analysis cost more than they save below
-        // about 16 elements per wavelength (docs/performance.md).
+        // about 16 elements per wavelength, and less above (docs/performance.md).
         None | Some(false) => false,
         Some(true) if mirror_possible && body.is_twisted_ring() => true,
         Some(true) => {
