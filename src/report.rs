@@ -140,7 +140,7 @@ pub fn modes_table(modes: &[ModeReport]) -> Table {
                 .map(|n| format!("{n:.6}"))
                 .unwrap_or_default(),
             format!("{:.3}", m.confinement),
-            m.label.clone(),
+            m.label.to_string(),
             format!("{:.1e}", m.residual),
         ];
         if twisted {

@@ -115,6 +115,88 @@ pub fn count_maxima(samples: &[f64], rel_prominence: f64) -> usize {
     count
 }
 
+/// A mode's family label: polarisation class, field-maximum counts across the section and,
+/// for twisted rings whose section is symmetric under rotation by pi, the sector `s` of
+/// that rotation. The dominant harmonic is not part of it: it changes along a family.
+///
+/// One text form for tables, CSV, JSON and sweep files (what `Display` writes, `FromStr`
+/// reads and `Serialize` stores): `<class> u<maxima_u> v<maxima_v>`, then ` s+` or ` s-`
+/// when a sector is set; for example `qTE u1 v1 s-`. Class names are those of
+/// [`Polarisation::short`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct ModeLabel {
+    /// Polarisation class.
+    pub class: Polarisation,
+    /// Field maxima across the section's u direction (radial order for rings).
+    pub maxima_u: usize,
+    /// Field maxima across the section's v direction.
+    pub maxima_v: usize,
+    /// Sector `+1` or `-1` of the rotation by pi (twisted rings on a pi-symmetric mesh).
+    pub sector: Option<i8>,
+}
+
+impl std::fmt::Display for ModeLabel {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "{} u{} v{}",
+            self.class.short(),
+            self.maxima_u,
+            self.maxima_v
+        )?;
+        match self.sector {
+            Some(s) if s > 0 => write!(f, " s+"),
+            Some(_) => write!(f, " s-"),
+            None => Ok(()),
+        }
+    }
+}
+
+impl std::str::FromStr for ModeLabel {
+    type Err = String;
+
+    /// Reads the text form back (sweep files written by an earlier run).
+    fn from_str(text: &str) -> Result<Self, String> {
+        let bad =
+            || format!("'{text}' is not a mode label such as \"qTE u1 v1\" or \"qTM u2 v1 s-\"");
+        let mut words = text.split_whitespace();
+        let class = match words.next() {
+            Some("qTE") => Polarisation::QuasiTe,
+            Some("qTM") => Polarisation::QuasiTm,
+            Some("mixed") => Polarisation::Mixed,
+            _ => return Err(bad()),
+        };
+        let count = |word: Option<&str>, prefix: char| -> Result<usize, String> {
+            word.and_then(|w| w.strip_prefix(prefix))
+                .and_then(|n| n.parse().ok())
+                .ok_or_else(bad)
+        };
+        let maxima_u = count(words.next(), 'u')?;
+        let maxima_v = count(words.next(), 'v')?;
+        let sector = match words.next() {
+            None => None,
+            Some("s+") => Some(1),
+            Some("s-") => Some(-1),
+            Some(_) => return Err(bad()),
+        };
+        if words.next().is_some() {
+            return Err(bad());
+        }
+        Ok(ModeLabel {
+            class,
+            maxima_u,
+            maxima_v,
+            sector,
+        })
+    }
+}
+
+impl Serialize for ModeLabel {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_str(self)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -163,5 +245,37 @@ mod tests {
             classify_polarisation(9.0, 1.0, 1.0, 0.7),
             Polarisation::Mixed
         );
+    }
+
+    #[test]
+    fn mode_labels_have_one_text_form_that_reads_back() {
+        let label = ModeLabel {
+            class: Polarisation::QuasiTe,
+            maxima_u: 1,
+            maxima_v: 2,
+            sector: Some(-1),
+        };
+        assert_eq!(label.to_string(), "qTE u1 v2 s-");
+        assert_eq!("qTE u1 v2 s-".parse::<ModeLabel>(), Ok(label));
+        let plain = ModeLabel {
+            sector: None,
+            class: Polarisation::Mixed,
+            ..label
+        };
+        assert_eq!(plain.to_string(), "mixed u1 v2");
+        assert_eq!(plain.to_string().parse::<ModeLabel>(), Ok(plain));
+        assert_eq!(serde_json::to_string(&label).unwrap(), "\"qTE u1 v2 s-\"");
+        for bad in [
+            "",
+            "qTE",
+            "qTE u1",
+            "TE u1 v1",
+            "qTE v1 u1",
+            "qTE u1 v1 s0",
+            "qTE u1 v1 s+ x",
+        ] {
+            let err = bad.parse::<ModeLabel>().unwrap_err();
+            assert!(err.contains("is not a mode label"), "{err}");
+        }
     }
 }

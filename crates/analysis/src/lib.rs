@@ -19,5 +19,5 @@ pub mod trust;
 
 pub use family::{families, match_by_overlap, Family, FamilyMember};
 pub use figures::{frequency_hz, k0_from_eigenvalue, quality_factor, SPEED_OF_LIGHT};
-pub use label::{classify_polarisation, count_maxima, Polarisation};
+pub use label::{classify_polarisation, count_maxima, ModeLabel, Polarisation};
 pub use trust::{check as trust_flags, Flag, TrustInputs};

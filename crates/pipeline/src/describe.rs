@@ -3,7 +3,7 @@
 use num_complex::Complex64;
 use twistmode_analysis::{
     classify_polarisation, count_maxima, frequency_hz, k0_from_eigenvalue, quality_factor,
-    trust_flags, Flag, TrustInputs,
+    trust_flags, Flag, ModeLabel, TrustInputs,
 };
 use twistmode_eigen::Spectrum;
 use twistmode_fem::{AssembledSystem, EnergySummary, FieldEvaluator, SectionProblem};
@@ -135,7 +135,12 @@ pub(crate) fn report_mode(
     } else {
         quality_factor(k0)
     };
-    let label = format!("{} u{} v{}", polarisation.short(), maxima_u, maxima_v);
+    let label = ModeLabel {
+        class: polarisation,
+        maxima_u,
+        maxima_v,
+        sector: None,
+    };
     ModeReport {
         index: 0,
         m,

@@ -1,6 +1,6 @@
 //! What a solve reports: the mesh and solver facts and one record per mode.
 use serde::Serialize;
-use twistmode_analysis::{Flag, Polarisation};
+use twistmode_analysis::{Flag, ModeLabel, Polarisation};
 use twistmode_mesh::Mesh;
 
 use num_complex::Complex64;
@@ -162,8 +162,8 @@ pub struct ModeReport {
     pub residual: f64,
     /// Reasons not to take the figures at face value.
     pub flags: Vec<Flag>,
-    /// The family label: polarisation and maxima counts.
-    pub label: String,
+    /// The family label (polarisation, maxima counts, sector); stored as its text form.
+    pub label: ModeLabel,
     /// Twisted rings: the harmonic content and convergence of the mode.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub twist: Option<TwistFacts>,

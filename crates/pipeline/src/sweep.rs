@@ -133,7 +133,7 @@ pub fn run_sweep(
                     modes: outcome
                         .modes
                         .iter()
-                        .map(|m: &ModeReport| (m.label.clone(), m.frequency_hz[0], m.q))
+                        .map(|m: &ModeReport| (m.label.to_string(), m.frequency_hz[0], m.q))
                         .collect(),
                 };
                 twistmode_io::output::write_json(&path, &p)?;

@@ -270,7 +270,7 @@ impl Describer<'_, '_> {
             }
             let sector = wide.system.sector;
             if let Some(s) = sector {
-                report.label.push_str(if s > 0.0 { " s+" } else { " s-" });
+                report.label.sector = Some(if s > 0.0 { 1 } else { -1 });
             }
             report.twist = Some(TwistFacts {
                 half_turns: self.half_turns,
