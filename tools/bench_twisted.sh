@@ -26,3 +26,12 @@ done
 for mode in colamd symmetric; do
   row 4 $mode mesh.resolution=16
 done
+# BENCH_FINE=1 adds resolutions 12 and 24 (the latter needs about 19 GB with the LU).
+if [ "${BENCH_FINE:-0}" = 1 ]; then
+  row 4 untwisted mesh.resolution=24
+  for res in 12 24; do
+    for mode in colamd symmetric; do
+      row 4 $mode mesh.resolution=$res
+    done
+  done
+fi
