@@ -291,7 +291,7 @@ fn cut_angle(shape: &SectionShape, mirror: bool) -> Result<f64, MeshError> {
     }
     if mirror {
         // Both working axes are mirror lines and must avoid the vertices.
-        let scale_ok = |p: P2| p[0].abs() > 1e-3 * scale && p[1].abs() > 1e-3 * scale;
+        let off_both_axes = |p: P2| p[0].abs() > 1e-3 * scale && p[1].abs() > 1e-3 * scale;
         for v in vertices {
             if !has_vertex_at([v[0], -v[1]]) {
                 return Err(geometry(
@@ -304,7 +304,7 @@ fn cut_angle(shape: &SectionShape, mirror: bool) -> Result<f64, MeshError> {
             }
         }
         // (Turning the frame by pi/2 would not help: it swaps the two lines.)
-        if vertices.iter().all(|v| scale_ok(*v)) {
+        if vertices.iter().all(|v| off_both_axes(*v)) {
             return Ok(0.0);
         }
         return Err(geometry(
