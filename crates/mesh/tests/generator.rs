@@ -451,6 +451,33 @@ fn metal_cavity_sections_without_surroundings() {
 
 /// Independent check of a pi-symmetric mesh: rotated nodes are nodes, rotated
 /// triangles are triangles of the same region.
+/// A hexagon of circumradius 0.6 um with two vertices on the horizontal axis.
+fn hexagon() -> Vec<[f64; 2]> {
+    (0..6)
+        .map(|k| {
+            let a = PI / 3.0 * k as f64;
+            [0.6e-6 * a.cos(), 0.6e-6 * a.sin()]
+        })
+        .collect()
+}
+
+/// A 1.2 x 0.3 um ribbon with 0.05 um corner radius.
+fn rounded_ribbon() -> SectionShape {
+    SectionShape::Rectangle {
+        width: 1.2e-6,
+        thickness: 0.3e-6,
+        corner_radius: 0.05e-6,
+    }
+}
+
+/// An ellipse with semi-axes 0.9 and 0.5 um.
+fn ellipse() -> SectionShape {
+    SectionShape::Ellipse {
+        a: 0.9e-6,
+        b: 0.5e-6,
+    }
+}
+
 fn assert_pi_symmetric(mesh: &Mesh, centre: [f64; 2]) {
     let partners = mesh.pi_partner_nodes().expect("partner map");
     let scale = mesh
@@ -492,21 +519,9 @@ fn assert_pi_symmetric(mesh: &Mesh, centre: [f64; 2]) {
 #[test]
 fn pi_symmetric_meshes_are_symmetric() {
     let centre = [0.4e-6, -0.2e-6];
-    let hexagon: Vec<[f64; 2]> = (0..6)
-        .map(|k| {
-            let a = PI / 3.0 * k as f64;
-            [0.6e-6 * a.cos(), 0.6e-6 * a.sin()]
-        })
-        .collect();
+    let hexagon = hexagon();
     let shapes = [
-        (
-            DomainKind::Disc,
-            SectionShape::Rectangle {
-                width: 1.2e-6,
-                thickness: 0.3e-6,
-                corner_radius: 0.05e-6,
-            },
-        ),
+        (DomainKind::Disc, rounded_ribbon()),
         (
             DomainKind::Box,
             SectionShape::Rectangle {
@@ -515,13 +530,7 @@ fn pi_symmetric_meshes_are_symmetric() {
                 corner_radius: 0.0,
             },
         ),
-        (
-            DomainKind::Disc,
-            SectionShape::Ellipse {
-                a: 0.9e-6,
-                b: 0.5e-6,
-            },
-        ),
+        (DomainKind::Disc, ellipse()),
         // Vertices on the horizontal line through the centre: the cut turns.
         (DomainKind::Box, SectionShape::Polygon { vertices: hexagon }),
     ];
@@ -569,28 +578,10 @@ fn mirror_symmetric_meshes_are_symmetric_under_both_mirrors() {
         })
         .collect();
     // A hexagon with vertices on the horizontal axis: no quarter without a vertex on its cut.
-    let hexagon: Vec<[f64; 2]> = (0..6)
-        .map(|k| {
-            let a = PI / 3.0 * k as f64;
-            [0.6e-6 * a.cos(), 0.6e-6 * a.sin()]
-        })
-        .collect();
+    let hexagon = hexagon();
     let shapes = [
-        (
-            DomainKind::Disc,
-            SectionShape::Rectangle {
-                width: 1.2e-6,
-                thickness: 0.3e-6,
-                corner_radius: 0.05e-6,
-            },
-        ),
-        (
-            DomainKind::Box,
-            SectionShape::Ellipse {
-                a: 0.9e-6,
-                b: 0.5e-6,
-            },
-        ),
+        (DomainKind::Disc, rounded_ribbon()),
+        (DomainKind::Box, ellipse()),
         (
             DomainKind::Disc,
             SectionShape::Polygon { vertices: octagon },
