@@ -478,6 +478,26 @@ fn ellipse() -> SectionShape {
     }
 }
 
+/// A pi-symmetric (and with `mirror`, mirror-symmetric) spec of `shape` in a medium with
+/// a PML, 0.1 um elements in the body.
+fn symmetric_spec(
+    domain: DomainKind,
+    shape: &SectionShape,
+    centre: [f64; 2],
+    order: GeometryOrder,
+    mirror: bool,
+) -> GeneratorSpec {
+    let mut spec = GeneratorSpec::new(
+        domain,
+        body(shape.clone(), centre, 0.1e-6),
+        medium(0.5e-6, 0.3e-6, 0.25e-6),
+    );
+    spec.pi_symmetric = true;
+    spec.mirror_symmetric = mirror;
+    spec.order = order;
+    spec
+}
+
 fn assert_pi_symmetric(mesh: &Mesh, centre: [f64; 2]) {
     let partners = mesh.pi_partner_nodes().expect("partner map");
     let scale = mesh
@@ -536,13 +556,7 @@ fn pi_symmetric_meshes_are_symmetric() {
     ];
     for (domain, shape) in shapes {
         for order in [GeometryOrder::Linear, GeometryOrder::Quadratic] {
-            let mut spec = GeneratorSpec::new(
-                domain,
-                body(shape.clone(), centre, 0.1e-6),
-                medium(0.5e-6, 0.3e-6, 0.25e-6),
-            );
-            spec.pi_symmetric = true;
-            spec.order = order;
+            let spec = symmetric_spec(domain, &shape, centre, order, false);
             let mesh = generate(&spec).unwrap_or_else(|e| panic!("{shape:?}: {e}"));
             assert_pi_symmetric(&mesh, centre);
         }
@@ -589,14 +603,7 @@ fn mirror_symmetric_meshes_are_symmetric_under_both_mirrors() {
     ];
     for (domain, shape) in shapes {
         for order in [GeometryOrder::Linear, GeometryOrder::Quadratic] {
-            let mut spec = GeneratorSpec::new(
-                domain,
-                body(shape.clone(), centre, 0.1e-6),
-                medium(0.5e-6, 0.3e-6, 0.25e-6),
-            );
-            spec.pi_symmetric = true;
-            spec.mirror_symmetric = true;
-            spec.order = order;
+            let spec = symmetric_spec(domain, &shape, centre, order, true);
             let mesh = generate(&spec).unwrap_or_else(|e| panic!("{shape:?}: {e}"));
             assert_pi_symmetric(&mesh, centre);
             let mirror = mesh.mirror_partner_nodes().expect("mirror partner map");
@@ -633,13 +640,13 @@ fn mirror_symmetric_meshes_are_symmetric_under_both_mirrors() {
         }
     }
     // A polygon with vertices on a mirror line cannot be cut into quarters.
-    let mut spec = GeneratorSpec::new(
+    let mut spec = symmetric_spec(
         DomainKind::Disc,
-        body(SectionShape::Polygon { vertices: hexagon }, centre, 0.1e-6),
-        medium(0.5e-6, 0.3e-6, 0.25e-6),
+        &SectionShape::Polygon { vertices: hexagon },
+        centre,
+        GeometryOrder::Linear,
+        true,
     );
-    spec.pi_symmetric = true;
-    spec.mirror_symmetric = true;
     expect_geometry_error(&spec, "mirror_symmetric", "on the mirror lines");
     spec.pi_symmetric = false;
     expect_geometry_error(&spec, "mirror_symmetric", "set pi_symmetric");

@@ -65,8 +65,6 @@ struct SectorSearch<'a, 'm> {
     ring: &'a TwistedRing<'m>,
     parts: &'a AssembledParts,
     drop_below: f64,
-    /// Solve the complex-symmetric (mirror-adapted) pencil.
-    symmetric: bool,
     sigma: Complex64,
     count: usize,
     tolerance: f64,
@@ -81,9 +79,13 @@ impl SectorSearch<'_, '_> {
         sector: Option<f64>,
     ) -> Result<SectorSolve, PipelineError> {
         let start = Instant::now();
-        let mut system =
-            self.ring
-                .block_system(self.parts, window, sector, self.drop_below, self.symmetric)?;
+        let mut system = self.ring.block_system(
+            self.parts,
+            window,
+            sector,
+            self.drop_below,
+            self.ring.has_mirror(),
+        )?;
         let assembled = start.elapsed().as_secs_f64();
         let (stiffness, mass) = system.take_matrices();
         let pencil = Pencil::try_new(stiffness, mass)?;
@@ -326,13 +328,9 @@ pub fn solve_twisted(
     let setup = set_up(case, &mesh)?;
     let start = Instant::now();
     let mut ring = TwistedRing::try_new(&mesh, setup)?;
-    let symmetric = match mesh.mirror_partner_nodes() {
-        Some(mirror) => {
-            ring = ring.with_mirror(mirror)?;
-            true
-        }
-        None => false,
-    };
+    if let Some(mirror) = mesh.mirror_partner_nodes() {
+        ring = ring.with_mirror(mirror)?;
+    }
     let (k_start, k_last) = match case.search.max_harmonics {
         Some(max) => (case.search.harmonics.min(max), max),
         None => (case.search.harmonics, case.search.harmonics),
@@ -358,7 +356,6 @@ pub fn solve_twisted(
         ring: &ring,
         parts: &parts,
         drop_below: DROP_FRACTION * case.search.harmonic_tolerance,
-        symmetric,
         sigma,
         count: pairs_for(case.search.count),
         tolerance: settings.tolerance,
